@@ -1,0 +1,67 @@
+"""The command-line application: one typer app, one module per command.
+
+Package errors are caught here, in one place, and printed as a single ``Error: ...``
+line on stderr with exit status 2; a traceback is shown only with ``--debug``.
+"""
+
+from __future__ import annotations
+
+import sys
+
+import click
+import typer
+
+from siteexposure.errors import SiteExposureError
+
+app = typer.Typer(
+    name="siteexposure",
+    help=(
+        "Screening estimates of RF exposure around antenna sites. Results are estimates, "
+        "not measurements; local regulations govern and a licensed professional must "
+        "review them before anyone relies on them."
+    ),
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+)
+
+_DEBUG = {"on": False}
+
+
+@app.callback()
+def _root(
+    debug: bool = typer.Option(False, "--debug", help="Show full tracebacks on errors."),
+) -> None:
+    _DEBUG["on"] = debug
+
+
+def _register() -> None:
+    """Import the command modules; each adds its command to ``app``."""
+    from siteexposure.cli import commands  # noqa: F401
+
+
+def main(argv: list[str] | None = None) -> None:
+    """Run the command line and exit with its status (0 done, 1 limit exceeded, 2 error)."""
+    _register()
+    args = sys.argv[1:] if argv is None else argv
+    _DEBUG["on"] = "--debug" in args
+    command = typer.main.get_command(app)
+    try:
+        code = command.main(args=args, prog_name="siteexposure", standalone_mode=False)
+    except SiteExposureError as exc:
+        if _DEBUG["on"]:
+            raise
+        print(f"Error: {exc}", file=sys.stderr)
+        sys.exit(2)
+    except click.exceptions.Abort:
+        print("Error: interrupted", file=sys.stderr)
+        sys.exit(2)
+    except click.exceptions.ClickException as exc:
+        exc.show()
+        sys.exit(2)
+    except click.exceptions.Exit as exc:
+        sys.exit(exc.exit_code)
+    except KeyboardInterrupt:
+        print("Error: interrupted", file=sys.stderr)
+        sys.exit(2)
+    sys.exit(code if isinstance(code, int) else 0)
