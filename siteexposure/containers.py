@@ -14,6 +14,7 @@ import numpy as np
 
 from siteexposure.constants import DBD_TO_DBI, MHZ
 from siteexposure.physics.pattern_base import GainPattern
+from siteexposure.physics.radiator import Radiator
 
 ACCESS_WORDS = ("public", "worker", "none")
 MODEL_WORDS = ("auto", "far-field", "cylindrical", "array", "aperture")
@@ -114,11 +115,21 @@ class Antenna:
         """Effective radiated power relative to a half-wave dipole (EIRP / 1.64). [W]"""
         return self.eirp_w / 10.0 ** (DBD_TO_DBI / 10.0)
 
-    @property
-    def largest_dimension_m(self) -> float:
-        """Largest physical dimension of the radiating aperture (0 if unknown). [m]"""
-        dims = [d for d in (self.aperture_height_m, self.aperture_width_m, self.diameter_m) if d]
-        return max(dims) if dims else 0.0
+    def radiator(self) -> Radiator:
+        """The physics-level description the field models take."""
+        return Radiator(
+            position_m=np.asarray(self.position_m, dtype=float),
+            azimuth_deg=float(self.azimuth_deg),
+            mechanical_tilt_deg=float(self.mechanical_tilt_deg),
+            electrical_tilt_deg=float(self.electrical_tilt_deg),
+            frequency_hz=self.frequency_hz,
+            power_w=self.net_power_w,
+            pattern=self.pattern,
+            aperture_height_m=self.aperture_height_m,
+            aperture_width_m=self.aperture_width_m,
+            diameter_m=self.diameter_m,
+            reflection_factor=self.reflection_factor,
+        )
 
 
 @dataclass(frozen=True)
