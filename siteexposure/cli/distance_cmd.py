@@ -1,0 +1,1 @@
+"""The `distance` command (being written)."""

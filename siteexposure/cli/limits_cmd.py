@@ -1,0 +1,1 @@
+"""The `limits` command (being written)."""

@@ -1,0 +1,1 @@
+"""The `map` command (being written)."""

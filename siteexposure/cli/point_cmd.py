@@ -1,0 +1,1 @@
+"""The `point` command (being written)."""

@@ -1,0 +1,1 @@
+"""The `report` command (being written)."""

@@ -1,0 +1,1 @@
+"""The `schema` command (being written)."""

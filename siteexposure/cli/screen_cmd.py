@@ -1,0 +1,1 @@
+"""The `screen` command (being written)."""
