@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import sys
 
-import click
 import typer
 
 from siteexposure.errors import SiteExposureError
@@ -41,27 +40,20 @@ def _register() -> None:
 
 
 def main(argv: list[str] | None = None) -> None:
-    """Run the command line and exit with its status (0 done, 1 limit exceeded, 2 error)."""
+    """Run the command line and exit with its status (0 done, 1 limit exceeded, 2 error).
+
+    typer handles usage errors itself (exit 2); package errors reach this one handler.
+    """
     _register()
-    args = sys.argv[1:] if argv is None else argv
+    args = sys.argv[1:] if argv is None else list(argv)
     _DEBUG["on"] = "--debug" in args
-    command = typer.main.get_command(app)
     try:
-        code = command.main(args=args, prog_name="siteexposure", standalone_mode=False)
+        app(args=args, prog_name="siteexposure")
     except SiteExposureError as exc:
         if _DEBUG["on"]:
             raise
         print(f"Error: {exc}", file=sys.stderr)
         sys.exit(2)
-    except click.exceptions.Abort:
-        print("Error: interrupted", file=sys.stderr)
-        sys.exit(2)
-    except click.exceptions.ClickException as exc:
-        exc.show()
-        sys.exit(2)
-    except click.exceptions.Exit as exc:
-        sys.exit(exc.exit_code)
     except KeyboardInterrupt:
         print("Error: interrupted", file=sys.stderr)
         sys.exit(2)
-    sys.exit(code if isinstance(code, int) else 0)
