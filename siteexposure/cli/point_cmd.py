@@ -1,1 +1,43 @@
-"""The `point` command (being written)."""
+"""``siteexposure point SITE --at E N Z``: exposure exactly at one point, no averaging."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import typer
+
+from siteexposure.cli.app import app
+
+
+@app.command("point")
+def point(
+    site_file: Path = typer.Argument(..., help="Site description (TOML)."),
+    at: tuple[float, float, float] = typer.Option(..., "--at", help="East, north, height above site ground (m)."),
+    as_json: bool = typer.Option(False, "--json", help="Print one JSON object to stdout."),
+) -> None:
+    """Power density of every antenna and the exposure ratios at one point."""
+    from siteexposure.engine.orchestrator import evaluate_point
+    from siteexposure.errors import InputError
+    from siteexposure.readers.site_toml import read_site
+
+    import math
+
+    if not all(math.isfinite(v) for v in at):
+        raise InputError(f"--at: value {list(at)} is not finite; expected three numbers E N Z in metres")
+    site = read_site(site_file)
+    res = evaluate_point(site, at, name="point")
+    if as_json:
+        from siteexposure.writers.cautions import CAUTIONS, STATUS_LINE
+        from siteexposure.writers.json_out import dumps, point_dict
+
+        obj = point_dict(res)
+        obj["site"] = site.name
+        obj["status"] = STATUS_LINE
+        obj["cautions"] = list(CAUTIONS)
+        typer.echo(dumps(obj), nl=False)
+        return
+    from rich.console import Console
+
+    from siteexposure.writers.summary import print_point
+
+    print_point(res, Console())

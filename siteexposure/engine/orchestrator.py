@@ -1,0 +1,296 @@
+"""The one orchestrator: a site in, a :class:`SiteResult` out.
+
+Steps: load the limit sets; choose a field model per antenna (recorded with its
+reason); build the weight rows of every (set, population, region); evaluate each
+area's grid of averaging lines in bounded chunks; evaluate each receptor exactly at its
+position; find the worst point, the contributions and the responsible operators of each
+area; work out mitigation for failing areas; and compute per-antenna keep-out distances.
+Every command and Python users alike call :func:`evaluate_site` or :func:`evaluate_point`.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as _dt
+from collections.abc import Iterator
+
+import numpy as np
+
+from siteexposure import __version__
+from siteexposure.containers import Area, Site
+from siteexposure.engine.combos import POPULATIONS, ComboTable, build_combos, governing
+from siteexposure.engine.evaluate import Source, column_ratios, densities
+from siteexposure.engine.grid import MAX_POINTS_PER_AREA, build_grid, estimate_points
+from siteexposure.engine.result import (
+    AntennaResult,
+    AreaResult,
+    AreaSummary,
+    ModelRecord,
+    PointExposure,
+    PointResult,
+    SiteResult,
+)
+from siteexposure.errors import InputError
+
+RESPONSIBLE_SHARE = 0.05  #: 47 CFR 1.1307(b)(5): operators above 5 % of their limit share responsibility
+
+
+def load_limit_sets(site: Site) -> dict:
+    from siteexposure.readers.limit_tables import load_limit_set
+
+    return {sid: load_limit_set(sid) for sid in site.limits}
+
+
+def build_sources(site: Site) -> tuple[list[Source], list[AntennaResult]]:
+    """Radiators with their chosen model, and the per-antenna records."""
+    from siteexposure.physics.sources import choose_model, reactive_radius_m
+
+    sources, records = [], []
+    for ant in site.antennas:
+        rad = ant.radiator()
+        choice = choose_model(rad, ant.model)
+        sources.append(Source(ant.id, rad, choice))
+        records.append(
+            AntennaResult(
+                antenna=ant,
+                model=ModelRecord(choice.word, choice.model_id, choice.reason),
+                reactive_radius_m=float(reactive_radius_m(rad)),
+            )
+        )
+    return sources, records
+
+
+def check_grid_size(site: Site) -> None:
+    """Refuse grids too large for memory up front, with the estimate and advice."""
+    k = len(site.averaging.heights_m())
+    for area in site.areas:
+        if area.access == "none":
+            continue
+        n = estimate_points(area, site.resolution_m) * k
+        if n > MAX_POINTS_PER_AREA:
+            coarser = site.resolution_m * float(np.sqrt(n / MAX_POINTS_PER_AREA)) * 1.05
+            raise InputError(
+                f"{site.source_path or 'site'}: area \"{area.name}\" at resolution_m = "
+                f"{site.resolution_m:g} needs about {n:,} evaluation points (limit "
+                f"{MAX_POINTS_PER_AREA:,}); expected a coarser resolution_m (about {coarser:.2g} m) "
+                f"or a smaller area"
+            )
+
+
+@contextlib.contextmanager
+def _progress(total: int, label: str, enabled: bool) -> Iterator:
+    """A progress bar on stderr (rich) for long runs; a no-op callback otherwise."""
+    if not enabled or total <= 0:
+        yield None
+        return
+    from rich.console import Console
+    from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
+
+    console = Console(stderr=True)
+    with Progress(
+        TextColumn("{task.description}"),
+        BarColumn(),
+        TextColumn("{task.percentage:>3.0f}%"),
+        TimeRemainingColumn(),
+        console=console,
+        transient=True,
+        disable=not console.is_terminal,
+    ) as bar:
+        task = bar.add_task(label, total=total)
+        yield lambda n: bar.advance(task, n)
+
+
+def evaluate_site(site: Site, *, progress: bool = False, mitigation: bool = True) -> SiteResult:
+    """Evaluate every area, receptor and antenna of ``site``.
+
+    Parameters
+    ----------
+    site : Site
+    progress : bool
+        Show a progress bar on stderr (when it is a terminal).
+    mitigation : bool
+        Work out power and height remedies for failing areas.
+    """
+    check_grid_size(site)
+    limit_sets = load_limit_sets(site)
+    sources, antenna_results = build_sources(site)
+    table = build_combos(limit_sets, site.antennas)
+    heights = site.averaging.heights_m()
+    reducers = table.reducers(site.averaging.method)
+
+    grids = [(area, build_grid(area, site.resolution_m)) for area in site.areas]
+    total = sum(int(g.evaluate.sum()) for area, g in grids if area.access != "none")
+    areas: list[AreaResult] = []
+    with _progress(total, f"Evaluating {site.name}", progress and total * len(sources) > 2e6) as tick:
+        for area, grid in grids:
+            areas.append(_evaluate_area(site, area, grid, sources, table, heights, reducers, tick))
+
+    points = [
+        evaluate_point(site, rec.at_m, name=rec.name, access=rec.access, _ctx=(sources, table))
+        for rec in site.points
+    ]
+    _keep_out(sources, antenna_results, table)
+    if mitigation:
+        from siteexposure.engine.mitigation import add_mitigation
+
+        for ar in areas:
+            add_mitigation(site, ar, sources, table, heights, reducers)
+
+    reachable_fail = any(s.verdict != "complies" for a in areas for s in a.summaries) or any(
+        (e.exposure_ratio is None or e.exposure_ratio > 1.0)
+        for p in points
+        if p.access != "none"
+        for e in p.exposure
+        if e.population == _population(p.access)
+    )
+    return SiteResult(
+        site=site,
+        antennas=antenna_results,
+        areas=areas,
+        points=points,
+        limit_sources={
+            sid: {
+                "title": ls.title,
+                "publication": ls.publication,
+                "tables": ls.tables,
+                "file": ls.source_file,
+                "sha256": ls.sha256,
+            }
+            for sid, ls in limit_sets.items()
+        },
+        settings={
+            "tool_version": __version__,
+            "run_utc": _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+            "averaging": {
+                "method": site.averaging.method,
+                "bottom_m": site.averaging.bottom_m,
+                "top_m": site.averaging.top_m,
+                "points": site.averaging.points,
+            },
+            "resolution_m": site.resolution_m,
+            "reflection_factors": sorted({a.reflection_factor for a in site.antennas}),
+        },
+        exceeded_where_reachable=reachable_fail,
+    )
+
+
+def _population(access: str) -> str | None:
+    return {"public": "general", "worker": "occupational"}.get(access)
+
+
+def _evaluate_area(site, area: Area, grid, sources, table: ComboTable, heights, reducers, tick) -> AreaResult:
+    ny, nx = grid.shape
+    ratio = {}
+    assess = np.zeros((ny, nx), dtype=bool)
+    if area.access == "none" or not sources:
+        return AreaResult(area, grid.east_m, grid.north_m, grid.inside, assess, ratio)
+    jj, ii = np.nonzero(grid.evaluate)
+    cols = np.column_stack([grid.east_m[ii], grid.north_m[jj]])
+    values = column_ratios(sources, cols, area.floor_m, heights, table.weights, reducers, progress=tick)
+    for set_id in site.limits:
+        for pop in POPULATIONS:
+            best, _ = governing(values, table.rows_for(set_id, pop))
+            g = np.full((ny, nx), np.nan)
+            g[jj, ii] = best
+            ratio[(set_id, pop)] = g
+    any_key = next(iter(ratio))
+    assess[jj, ii] = np.isfinite(ratio[any_key][jj, ii])
+    result = AreaResult(area, grid.east_m, grid.north_m, grid.inside, assess, ratio)
+    for set_id in site.limits:
+        result.summaries.append(_summarise(site, result, set_id, area.population, sources, table, heights))
+    return result
+
+
+def _summarise(site, result: AreaResult, set_id, pop, sources, table, heights) -> AreaSummary:
+    """Worst point, contributions, responsible operators and verdict of one area."""
+    area = result.area
+    g = np.where(result.inside, result.ratio[(set_id, pop)], np.nan)
+    n_points = int(result.inside.sum())
+    n_bad = int((result.inside & ~result.assessable).sum())
+    finite = np.isfinite(g)
+    if not finite.any():
+        return AreaSummary(set_id, pop, float("nan"), None, "not assessable", "whole-body", n_points, n_bad, {}, {}, ())
+    j, i = np.unravel_index(np.nanargmax(g), g.shape)
+    max_ratio = float(g[j, i])
+    at = (float(result.east_m[i]), float(result.north_m[j]), float(area.floor_m))
+    share, region = _shares_at_column(site, (at[0], at[1]), area.floor_m, sources, table, heights, set_id, pop)
+    op_share: dict[str, float] = {}
+    for src in sources:
+        op = site.antenna(src.id).operator
+        op_share[op] = op_share.get(op, 0.0) + share.get(src.id, 0.0)
+    responsible = tuple(op for op, v in op_share.items() if v >= RESPONSIBLE_SHARE) if max_ratio > 1.0 else ()
+    verdict = "exceeds" if max_ratio > 1.0 else ("not assessable" if n_bad else "complies")
+    return AreaSummary(set_id, pop, max_ratio, at, verdict, region, n_points, n_bad, share, op_share, responsible)
+
+
+def _shares_at_column(site, en, floor_m, sources, table: ComboTable, heights, set_id, pop):
+    """Exposure ratio contributed by each antenna on the averaging line at ``en``."""
+    rows = table.rows_for(set_id, pop)
+    reducers = table.reducers(site.averaging.method)
+    pts = np.column_stack([np.full(len(heights), en[0]), np.full(len(heights), en[1]), floor_m + heights])
+    s = densities(sources, pts)  # (n_source, k)
+    best_val, best_row, best_share = -np.inf, rows[0], {}
+    for row in rows:
+        per = table.weights[row][:, None] * s  # (n_source, k)
+        if reducers[row] == "mean":
+            contrib = per.mean(axis=1)
+        else:
+            contrib = per[:, int(np.nanargmax(np.nansum(per, axis=0)))]
+        total = float(np.nansum(contrib))
+        if total > best_val:
+            best_val, best_row = total, row
+            best_share = {src.id: float(c) for src, c in zip(sources, contrib, strict=True)}
+    return best_share, table.combos[best_row].region
+
+
+def evaluate_point(site: Site, at_m, *, name: str = "point", access: str = "public", _ctx=None) -> PointResult:
+    """Exposure exactly at ``at_m`` (east, north, height above site ground), no averaging.
+
+    Both populations are evaluated for every limit set of the site; a point inside any
+    antenna's reactive near field is reported as not assessable, never as a pass.
+    """
+    if _ctx is None:
+        limit_sets = load_limit_sets(site)
+        sources, _ = build_sources(site)
+        table = build_combos(limit_sets, site.antennas)
+    else:
+        sources, table = _ctx
+    at = np.asarray(at_m, dtype=float).reshape(3)
+    s = densities(sources, at[None, :])[:, 0] if sources else np.zeros(0)
+    bad = [src.id for src, v in zip(sources, s, strict=True) if not np.isfinite(v)]
+    exposure = []
+    for set_id in site.limits:
+        for pop in POPULATIONS:
+            rows = table.rows_for(set_id, pop)
+            vals = [float(table.weights[r] @ np.nan_to_num(s)) for r in rows]
+            k = int(np.argmax(vals))
+            share = {src.id: float(table.weights[rows[k]][n] * s[n]) for n, src in enumerate(sources) if np.isfinite(s[n])}
+            exposure.append(
+                PointExposure(set_id, pop, None if bad else vals[k], table.combos[rows[k]].region, share)
+            )
+    reason = ""
+    if bad:
+        reason = "inside the reactive near field of " + ", ".join(bad) + " (closer than max(λ/2π, 0.62·√(D³/λ))); these models cannot assess it"
+    return PointResult(
+        name=name,
+        at_m=at,
+        access=access,
+        density_w_m2={src.id: (float(v) if np.isfinite(v) else None) for src, v in zip(sources, s, strict=True)},
+        assessable=not bad,
+        reason=reason,
+        exposure=exposure,
+    )
+
+
+def _keep_out(sources, records, table: ComboTable) -> None:
+    """Per-antenna compliance boundaries against each set's whole-body limit."""
+    from siteexposure.physics.sources import keep_out_distances
+
+    for n, (src, rec) in enumerate(zip(sources, records, strict=True)):
+        for i, combo in enumerate(table.combos):
+            if combo.region != "whole-body":
+                continue
+            limit = float(table.limits_w_m2[i, n])
+            key = (combo.set_id, combo.population)
+            rec.limit_w_m2[key] = limit
+            rec.keep_out_m[key] = {k: float(v) for k, v in keep_out_distances(src.radiator, src.choice, limit).items()}
