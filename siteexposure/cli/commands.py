@@ -11,6 +11,7 @@ COMMAND_MODULES = (
     "report_cmd",
     "schema_cmd",
     "demo_cmd",
+    "batch_cmd",
 )
 
 for _name in COMMAND_MODULES:

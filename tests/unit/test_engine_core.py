@@ -1,0 +1,70 @@
+"""Unit tests of the engine's building blocks: grids, weighted sums, governing rows."""
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from siteexposure.containers import Area, Averaging
+from siteexposure.engine.combos import governing
+from siteexposure.engine.evaluate import weighted_sums
+from siteexposure.engine.grid import build_grid, grid_axes
+
+
+def _area(outline, floor=0.0, access="public"):
+    return Area("a", access, floor, np.asarray(outline, float))
+
+
+def test_grid_cells_are_centres_on_a_lattice_anchored_at_the_origin():
+    east, north = grid_axes(np.array([[0, 0], [2, 0], [2, 1], [0, 1]], float), 0.5)
+    assert np.allclose(np.mod(east / 0.5, 1.0), 0.5)
+    assert east.min() < 0 < 2 < east.max()  # one cell of margin each side
+    assert np.allclose(np.diff(north), 0.5)
+
+
+def test_grid_inside_mask_counts_cells_of_a_rectangle():
+    g = build_grid(_area([[0, 0], [4, 0], [4, 2], [0, 2]]), 0.5)
+    assert int(g.inside.sum()) == 8 * 4
+    assert g.evaluate.sum() > g.inside.sum()
+    assert np.all(g.evaluate[g.inside])
+
+
+def test_grid_of_an_l_shape_excludes_the_notch():
+    g = build_grid(_area([[0, 0], [4, 0], [4, 4], [2, 4], [2, 2], [0, 2]]), 1.0)
+    assert int(g.inside.sum()) == 16 - 4
+
+
+def test_averaging_heights_are_even_and_include_both_ends():
+    h = Averaging("vertical-line", 0.0, 2.0, 10).heights_m()
+    assert h[0] == 0.0 and h[-1] == 2.0 and len(h) == 10
+    assert np.allclose(np.diff(h), 2.0 / 9)
+
+
+def test_weighted_sums_matches_hand_sum_and_marks_nan_only_where_weighted():
+    s = np.array([[1.0, 2.0, np.nan], [10.0, 20.0, 30.0]])
+    w = np.array([[0.5, 0.1], [0.0, 1.0]])
+    r = weighted_sums(s, w)
+    assert r[0, 0] == pytest.approx(0.5 + 1.0)
+    assert r[0, 1] == pytest.approx(1.0 + 2.0)
+    assert np.isnan(r[0, 2])  # source 0 has weight and is not assessable there
+    assert r[1, 2] == pytest.approx(30.0)  # source 0 has no weight in row 1
+
+
+@settings(max_examples=50, deadline=None)
+@given(st.integers(1, 5), st.integers(1, 30), st.integers(1, 4), st.integers(0, 2**31 - 1))
+def test_weighted_sum_equals_sum_of_single_sources(n_src, n_pt, n_combo, seed):
+    """Superposition: the sum over sources equals the sources summed one by one."""
+    rng = np.random.default_rng(seed)
+    s = rng.random((n_src, n_pt)) * 10
+    w = rng.random((n_combo, n_src))
+    total = weighted_sums(s, w)
+    parts = sum(weighted_sums(s[i : i + 1], w[:, i : i + 1]) for i in range(n_src))
+    assert np.allclose(total, parts)
+
+
+def test_governing_takes_the_larger_row_and_keeps_nan():
+    v = np.array([[1.0, 3.0, np.nan], [2.0, 1.0, 5.0]])
+    best, which = governing(v, [0, 1])
+    assert best[0] == 2.0 and which[0] == 1
+    assert best[1] == 3.0 and which[1] == 0
+    assert np.isnan(best[2])
