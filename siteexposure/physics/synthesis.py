@@ -188,9 +188,10 @@ class TablePattern:
 
         A(phi, theta) = -min(-(A_V + A_H), A_m)
 
-    applied to the tabulated cuts: ``A_H = H(phi)`` and ``A_V`` the vertical cut relative to its
-    horizon value, blended between front and back with ``w = cos^2(phi/2)`` (our own choice:
-    TR 38.901 has one vertical cut only)::
+    applied to the tabulated cuts: ``A_H = H(phi)`` and ``A_V`` the vertical cut of the same
+    half-space relative to its horizon value -- the front cut for ``|phi'| <= 80 deg``, the back
+    cut for ``|phi'| >= 100 deg`` and a linear blend ``w = (100 - |phi'|) / 20`` across the
+    sides (the blend is our own choice: TR 38.901 has one vertical cut only)::
 
         G = max( H(phi) + w [Vf(theta) - Vf(0)] + (1-w) [Vb(theta) - Vb(0)],  G_min )
 
@@ -323,7 +324,8 @@ class TablePattern:
         if self.method == "additive":
             vf0 = np.interp(0.0, self.v_front_elev_deg, self.v_front_gain_dbi)
             vb0 = np.interp(0.0, self.v_back_elev_deg, self.v_back_gain_dbi)
-            w = np.cos(0.5 * np.deg2rad(phi_deg)) ** 2
+            az = np.abs(np.mod(phi_deg + 180.0, 360.0) - 180.0)
+            w = np.clip((100.0 - az) / 20.0, 0.0, 1.0)
             g = h + w * (vf - vf0) + (1.0 - w) * (vb - vb0)
             return np.maximum(g, self.min_gain_dbi)
         # weighted bilinear (Gil et al. 2001)
