@@ -223,7 +223,7 @@ def keep_out_directions_enu(azimuth_deg: float) -> dict[str, np.ndarray]:
 
 
 def _outermost_crossing(rad, choice, direction, limit, r0, r_max) -> float:
-    radii = np.geomspace(r0, r_max, _MARCH_SAMPLES)
+    radii = np.geomspace(r0 * (1.0 + 1e-9), r_max, _MARCH_SAMPLES)  # just outside the mask
     for round_ in range(_REFINE_ROUNDS + 1):
         s, _ = power_density(rad, choice, rad.position_m + radii[:, None] * direction)
         over = ~(s < limit)  # NaN (not assessable) counts as exceeding
