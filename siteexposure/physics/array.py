@@ -1,0 +1,499 @@
+"""Array-synthesis near-field model: the aperture as a column of coherent sub-sources.
+
+The antenna's aperture (height ``H`` along the antenna's own ``z`` axis) is replaced by a
+column of ``N`` short vertical current elements, evenly spaced at ``d = H/N <= lambda/2``
+(normally ``lambda/4``). Their complex moments carry a real, symmetric amplitude taper and
+the linear phase progression of the electrical downtilt; the azimuth behaviour comes from
+the antenna's own horizontal cut. The fields of all elements are summed coherently with
+their complete (near, intermediate and far) terms, and the whole is scaled so that the
+radiated power, integrated numerically over the sphere, equals the net input power.
+
+Element pattern (design and justification)
+------------------------------------------
+* Vertical shape: each sub-source is a z-directed current element, whose field has the
+  obliquity factor ``cos(elevation)`` (Balanis eq. 4-26a). A z-directed line current is
+  exactly such a column, so for dipole, collinear and vertically polarised panel columns
+  this is the physical element; for other polarisations it is a broad shape that the
+  taper fit below absorbs on the main beam.
+* Amplitude taper: chosen once per antenna by a least-squares fit, in dB, of the column's
+  far-field vertical pattern ``cos^2(el) |AF(el)|^2`` to the antenna's own front vertical
+  cut (through the horizontal-cut peak), with the downtilt already in the data removed by
+  the phase progression. Real symmetric amplitudes give a beam symmetric about the tilt
+  direction (in ``sin(el)``); asymmetric features of the cut (null fill, upper side-lobe
+  suppression) are averaged. Because the fit is made on the far field of the same column,
+  the model's far-field limit reproduces the vertical cut and its beamwidth for the given
+  aperture height.
+* Azimuth shape: ``a(phi) = G_h(phi) / G_h(phi_peak)``, the horizontal cut relative to its
+  peak, as a power factor common to all sub-sources (all lie on the antenna axis, so every
+  element sees a field point at the same azimuth). The model is therefore separable:
+  ``G(phi, el) = G_peak a(phi) v(el)``, exact on the horizontal cut and on the front
+  vertical cut; the back vertical cut is the front one scaled by the front-to-back ratio.
+
+Validity and assumptions
+------------------------
+* From about half a wavelength from the column out to the far field, in free space (times
+  the field-squared reflection factor of the radiator). Points closer to the radiation
+  centre than the reactive radius ``max(lambda/(2 pi), 0.62 sqrt(D^3/lambda))`` (D the
+  largest aperture dimension), and points closer than ``lambda/(2 pi)`` to the column
+  itself, are not assessable: NaN and ``False``.
+* The width of the aperture enters only through the horizontal cut (a line source); the
+  model does not resolve the field across the width of a wide panel.
+* The result is the plane-wave-equivalent density ``|E_rms|^2 / eta0`` of the synthesised
+  electric field (what an E-field probe reading is compared with), including the radial
+  (reactive) field components of the elements.
+* Normalisation makes the radiated power equal to ``Radiator.power_w``. Where the pattern
+  integrates to less than ``4 pi`` (a lossy antenna, or a 3-D pattern narrower than its
+  separable counterpart), the model's far-field peak gain exceeds the pattern's by that
+  ratio (conservative); :attr:`ArraySynthesis.far_field_peak_gain_dbi` reports it.
+
+References
+----------
+.. [1] C. A. Balanis, "Antenna Theory: Analysis and Design", 4th ed., Wiley, 2016:
+   sec. 4.2 eqs. (4-8a)-(4-10c) fields of an infinitesimal dipole; sec. 6.3 (N-element
+   linear array, uniform spacing, array factor eq. 6-6 and scanning by progressive phase
+   eq. 6-14 ff.); sec. 2.2.4 field regions (reactive near field R < 0.62 sqrt(D^3/lambda));
+   equation numbers from memory.
+.. [2] FCC OET Bulletin 65, Edition 97-01, Aug. 1997, sec. 2 (context: near-field and far-field
+   prediction for exposure evaluation).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from siteexposure.constants import C0, ETA0
+from siteexposure.errors import InputError
+from siteexposure.physics.orientation import antenna_angles, to_antenna_frame
+from siteexposure.physics.pattern_base import linear_to_dbi
+from siteexposure.physics.radiator import Radiator
+
+MIN_SUB_SOURCES = 5  #: at least this many elements, however short the aperture [1]
+PREFERRED_SPACING_WL = 0.25  #: element spacing aimed at, in wavelengths [1]
+MAX_SPACING_WL = 0.5  #: spacing never exceeds this (no grating lobes), in wavelengths [1]
+SOFT_MAX_SUB_SOURCES = 48  #: above this the spacing grows towards lambda/2 [1]
+FIT_FLOOR_DB = 30.0  #: the taper fit looks at the vertical cut down to peak - 30 dB [dB]
+_AZ_STEP_DEG = 1.0
+ENVELOPE_DEG = 5.0  #: half-width of the cut envelopes of the element factor [deg]
+_FIT_STEP_DEG = 0.25
+_CHUNK_ELEMENTS = 1_500_000  # (n_sub x n_point) block size of the near-field sum
+
+
+def reactive_radius_m(wavelength_m: float, largest_dimension_m: float) -> float:
+    """Radius of the reactive near field ``max(lambda/(2 pi), 0.62 sqrt(D^3/lambda))``. [m]
+
+    References
+    ----------
+    Balanis, Antenna Theory, 4th ed., sec. 2.2.4 (0.62 sqrt(D^3/lambda)); lambda/(2 pi) is
+    the radius where the near and far terms of a small dipole are equal (ibid. sec. 4.2).
+    """
+    lam = float(wavelength_m)
+    d = float(largest_dimension_m)
+    return max(lam / (2.0 * np.pi), 0.62 * np.sqrt(d**3 / lam) if d > 0 else 0.0)
+
+
+def n_sub_sources(height_m: float, wavelength_m: float) -> int:
+    """Number of elements for an aperture height: spacing lambda/4, within 5..48 if possible.
+
+    Never fewer than :data:`MIN_SUB_SOURCES`; above :data:`SOFT_MAX_SUB_SOURCES` elements the
+    spacing grows, but never beyond lambda/2. [1]
+    """
+    ratio = height_m / wavelength_m
+    n = max(MIN_SUB_SOURCES, int(np.ceil(ratio / PREFERRED_SPACING_WL - 1e-9)))
+    return min(n, max(SOFT_MAX_SUB_SOURCES, int(np.ceil(ratio / MAX_SPACING_WL - 1e-9))))
+
+
+def _db(g) -> np.ndarray:
+    return 10.0 * np.log10(np.maximum(np.asarray(g, dtype=float), 1e-30))
+
+
+def _pattern_cuts_db(pattern, phi, el) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Horizontal cut at ``phi`` and front/back vertical cuts at ``el`` (radians), in dBi.
+
+    The cuts a user supplies: the pattern's own ``horizontal_cut`` / ``vertical_cut`` where it
+    exposes them (table patterns), else its 3-D gain on the cut planes (phi = 0 and pi).
+    """
+    if hasattr(pattern, "horizontal_cut") and hasattr(pattern, "vertical_cut"):
+        h = np.asarray(pattern.horizontal_cut(phi), dtype=float)
+        vf = np.asarray(pattern.vertical_cut(el, "front"), dtype=float)
+        vb = np.asarray(pattern.vertical_cut(el, "back"), dtype=float)
+    else:
+        h = _db(pattern.gain(phi, np.zeros_like(phi)))
+        vf = _db(pattern.gain(np.zeros_like(el), el))
+        vb = _db(pattern.gain(np.full_like(el, np.pi), el))
+    if not all(np.all(np.isfinite(c)) for c in (h, vf, vb)):
+        raise InputError(f"pattern '{getattr(pattern, 'name', '?')}': gain is not finite on its "
+                         "cuts; expected a usable gain pattern")
+    top = max(h.max(), vf.max(), vb.max())
+    lo = top - FIT_FLOOR_DB
+    return np.maximum(h, lo), np.maximum(vf, lo), np.maximum(vb, lo)
+
+
+def _envelope_db(v_db, el, half_width_deg) -> np.ndarray:
+    """Running maximum over +-half_width_deg (fills the nulls between lobes). [dB]"""
+    step = float(np.rad2deg(el[1] - el[0]))
+    m = max(1, int(round(half_width_deg / step)))
+    pad = np.pad(v_db, m, mode="edge")
+    win = np.lib.stride_tricks.sliding_window_view(pad, 2 * m + 1)
+    return win.max(axis=1)
+
+
+def _element_table(pattern) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Element power factor on a 1 deg (phi, el) grid and the front vertical cut (linear).
+
+    Returns ``(table, el, g_v)``. With the cuts in dB floored at :data:`FIT_FLOOR_DB` below
+    the peak, ``h(phi) = H(phi) - H(0)``, ``dv(el) = env Vb(el) - env Vf(el)`` (upper
+    envelopes over +-:data:`ENVELOPE_DEG`, so that a null of one cut does not make the ratio
+    jump) and the back weight ``w(phi) = sin^2(phi/2)``::
+
+        e_dB(phi, el) = min(0, h(phi) + w(phi) [dv(el) - dv(0)])
+
+    the 3GPP TR 38.901 (Table 7.3-1) additive combination written relative to the front
+    cut: exact on the horizontal cut and on the front cut, and on the back cut to within
+    the envelope; 0 dB for an omnidirectional antenna. ``g_v`` is the front cut at ``el``
+    (0.25 deg steps) [rad], [1].
+    """
+    phi = np.deg2rad(np.arange(0.0, 360.0, _AZ_STEP_DEG))
+    el_t = np.deg2rad(np.arange(-90.0, 90.5, 1.0))
+    el = np.deg2rad(np.arange(-90.0, 90.0 + 0.5 * _FIT_STEP_DEG, _FIT_STEP_DEG))
+    h, vf_t, vb_t = _pattern_cuts_db(pattern, phi, el_t)
+    _, g_v_db, _ = _pattern_cuts_db(pattern, phi, el)
+    dv = _envelope_db(vb_t, el_t, ENVELOPE_DEG) - _envelope_db(vf_t, el_t, ENVELOPE_DEG)
+    dv0 = float(dv[90])
+    w = np.sin(0.5 * phi) ** 2
+    table_db = np.minimum(0.0, (h - h[0])[:, None] + w[:, None] * (dv - dv0)[None, :])
+    return 10.0 ** (table_db / 10.0), el, 10.0 ** (g_v_db / 10.0)
+
+
+def _fit_taper(z_m, k, el, g_v, tilt_rad) -> tuple[np.ndarray, float]:
+    """Real symmetric amplitudes ``A`` (max 1) and scale ``K`` with ``K cos^2 |AF_A|^2 ~ g_v``.
+
+    A least-squares fit in dB of the column's far-field vertical pattern to the vertical cut
+    ``g_v`` (linear gain at elevations ``el`` [rad]) down to :data:`FIT_FLOOR_DB` below its
+    peak, with the cut's own downtilt ``tilt_rad`` in the phase progression and a mild
+    smoothness penalty on the taper (second differences).
+    """
+    from scipy.optimize import least_squares
+
+    n = z_m.size
+    half = (n + 1) // 2
+    # amplitudes A = M @ b with b the free half (mirror symmetry)
+    m = np.zeros((n, half))
+    for i in range(n):
+        m[i, min(i, n - 1 - i)] = 1.0
+    u = np.sin(el)
+    phase = np.exp(1j * k * np.outer(u + np.sin(tilt_rad), z_m))  # (n_el, n)
+    basis = (phase @ m) * np.cos(el)[:, None]  # field of each free amplitude, (n_el, half)
+    g_max = g_v.max()
+    floor = g_max * 10.0 ** (-FIT_FLOOR_DB / 10.0)
+    target_db = 10.0 * np.log10(g_v + floor)
+    w = np.where(g_v >= 0.01 * g_max, 1.0, 0.3)
+    mu = 0.5  # smoothness of the taper (second differences), relative to its mean
+
+    def model(x):
+        b, logk = x[:half], x[half]
+        f = basis @ b
+        p = np.abs(f) ** 2
+        return f, p, 10.0**logk
+
+    def fun(x):
+        f, p, kk = model(x)
+        r = w * (10.0 * np.log10(kk * p + floor) - target_db)
+        scale = max(np.mean(x[:half]), 1e-12)
+        reg = mu * np.diff(m @ x[:half], 2) / scale
+        return np.concatenate([r, reg])
+
+    def jac(x):
+        f, p, kk = model(x)
+        den = kk * p + floor
+        c = 10.0 / np.log(10.0)
+        dp = 2.0 * np.real(np.conj(f)[:, None] * basis)  # d|f|^2/db, (n_el, half)
+        jb = (w * c * kk / den)[:, None] * dp
+        jk = (w * c * kk * p / den) * np.log(10.0)
+        scale = max(np.mean(x[:half]), 1e-12)
+        d2 = np.diff(np.eye(n), 2, axis=0) @ m
+        jr = mu * d2 / scale  # ignoring the weak dependence of the scale on b
+        top = np.column_stack([jb, jk])
+        bot = np.column_stack([jr, np.zeros(jr.shape[0])])
+        return np.vstack([top, bot])
+
+    x0 = np.concatenate([np.ones(half), [np.log10(g_max / max(np.abs(basis.sum(1)).max() ** 2,
+                                                            1e-300))]])
+    lo = np.concatenate([np.zeros(half), [-np.inf]])
+    hi = np.full(half + 1, np.inf)
+    sol = least_squares(fun, x0, jac=jac, bounds=(lo, hi), method="trf", x_scale="jac",
+                        max_nfev=200)
+    a = m @ sol.x[:half]
+    kk = 10.0 ** sol.x[half]
+    if not np.any(a > 0):
+        a, kk = np.ones(n), g_max / max(np.abs(basis.sum(1)).max() ** 2, 1e-300)
+    return a / a.max(), float(kk * a.max() ** 2)
+
+
+@dataclass(frozen=True)
+class ArraySynthesis:
+    """A precomputed column of sub-sources for one radiator.
+
+    Attributes
+    ----------
+    position_m : ndarray, shape (3,)
+        Radiation centre in the site frame (east, north, up). [m]
+    azimuth_deg, mechanical_tilt_deg : float
+        Orientation of the antenna frame. [deg]
+    wavelength_m : float
+        Free-space wavelength. [m]
+    z_m : ndarray, shape (n_sub,)
+        Element positions along the antenna's z axis from the radiation centre. [m]
+    moments : ndarray, shape (n_sub,)
+        Complex current moments ``I l`` (peak phasors), scaled to the radiated power. [A m]
+    element_table : ndarray, shape (360, 181)
+        Element power factor ``e(phi, el)`` on a 1 deg grid, phi 0..359, el -90..90. [1]
+    reflection_factor : float
+        Field-squared factor applied to the density. [1]
+    reactive_radius_m : float
+        Points closer to the radiation centre are not assessable. [m]
+    column_clearance_m : float
+        Points closer to the column of elements are not assessable. [m]
+    power_w : float
+        Radiated (= net input) power. [W]
+    electrical_tilt_deg : float
+        Downtilt of the phase progression, positive down. [deg]
+    far_field_peak_gain_dbi : float
+        Peak gain of the model's own far field. [dBi]
+    """
+
+    position_m: np.ndarray
+    azimuth_deg: float
+    mechanical_tilt_deg: float
+    wavelength_m: float
+    z_m: np.ndarray
+    moments: np.ndarray
+    element_table: np.ndarray
+    reflection_factor: float
+    reactive_radius_m: float
+    column_clearance_m: float
+    power_w: float
+    electrical_tilt_deg: float
+    far_field_peak_gain_dbi: float
+
+    # ------------------------------------------------------------------ construction
+    @classmethod
+    def from_radiator(cls, rad: Radiator) -> ArraySynthesis:
+        """Build the columns for ``rad`` (needs ``rad.aperture_height_m``).
+
+        Parameters
+        ----------
+        rad : Radiator
+            The antenna: pattern, power, frequency, orientation and aperture height.
+
+        Raises
+        ------
+        InputError
+            Without a positive aperture height, a finite power >= 0 or a positive frequency.
+
+        Notes
+        -----
+        The model's far-field gain is ``G(phi, el) = K cos^2(el) |AF(el)|^2 e(phi, el) / eta``
+        with the fitted taper (``K cos^2 |AF|^2 ~ Vf``, the front cut), the element factor of
+        :func:`_element_table` and ``eta`` the sphere integral of the numerator over 4 pi,
+        so that the radiated power equals ``P``.
+        """
+        h = rad.aperture_height_m
+        if h is None or not np.isfinite(h) or h <= 0:
+            raise InputError(f"antenna aperture height_m = {h!r}: the array model needs the "
+                             "height of the radiating aperture; expected a positive length in m")
+        if not (np.isfinite(rad.power_w) and rad.power_w >= 0):
+            raise InputError(f"antenna power = {rad.power_w!r} W: expected a finite power >= 0")
+        if not (np.isfinite(rad.frequency_hz) and rad.frequency_hz > 0):
+            raise InputError(f"antenna frequency = {rad.frequency_hz!r} Hz: expected > 0")
+        lam = C0 / rad.frequency_hz
+        k = 2.0 * np.pi / lam
+        n = n_sub_sources(h, lam)
+        d = h / n
+        z = (np.arange(n) + 0.5) * d - 0.5 * h
+        pattern = rad.pattern
+        table, el, g_v = _element_table(pattern)
+        tilt_data = float(getattr(pattern, "electrical_tilt_deg", 0.0) or 0.0)
+        table_like = hasattr(pattern, "vertical_cut")
+        tilt = tilt_data if table_like else float(rad.electrical_tilt_deg)
+        amp, kk = _fit_taper(z, k, el, g_v, np.deg2rad(tilt_data))
+        # unit moments: far-field gain 4 pi U / (1 W) = K cos^2 |AF_A|^2
+        const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
+        unit = amp * np.sqrt(kk / (4.0 * np.pi * const))
+        unit = unit * np.exp(1j * k * z * np.sin(np.deg2rad(tilt)))
+        p_unit, u_peak = _radiated_power(unit, z, k, table)
+        scale = np.sqrt(rad.power_w / p_unit) if rad.power_w > 0 else 0.0
+        return cls(
+            position_m=np.asarray(rad.position_m, dtype=float).reshape(3),
+            azimuth_deg=float(rad.azimuth_deg),
+            mechanical_tilt_deg=float(rad.mechanical_tilt_deg),
+            wavelength_m=lam,
+            z_m=z,
+            moments=unit * scale,
+            element_table=table,
+            reflection_factor=float(rad.reflection_factor),
+            reactive_radius_m=reactive_radius_m(lam, rad.largest_dimension_m),
+            column_clearance_m=lam / (2.0 * np.pi),
+            power_w=float(rad.power_w),
+            electrical_tilt_deg=tilt,
+            far_field_peak_gain_dbi=float(linear_to_dbi(4.0 * np.pi * u_peak / p_unit)),
+        )
+
+    # ------------------------------------------------------------------ evaluation
+    def _element(self, phi, theta) -> np.ndarray:
+        """Element power factor e(phi, el), bilinear on its 1 deg grid (radians). [1]"""
+        return _lookup(self.element_table, phi, theta)
+
+    def far_field_gain(self, phi, theta) -> np.ndarray:
+        """Power gain of the model's own far field at pattern angles (radians). [1]"""
+        phi, theta = np.broadcast_arrays(np.asarray(phi, float), np.asarray(theta, float))
+        if self.power_w <= 0:
+            return np.zeros(phi.shape)
+        k = 2.0 * np.pi / self.wavelength_m
+        af = np.exp(1j * k * np.multiply.outer(np.sin(theta), self.z_m)) @ self.moments
+        const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
+        u = const * np.abs(af * np.cos(theta)) ** 2 * self._element(phi, theta)
+        return 4.0 * np.pi * u / self.power_w
+
+    def power_density(self, points_enu) -> tuple[np.ndarray, np.ndarray]:
+        """Plane-wave-equivalent power density of the coherent sum at field points.
+
+        Parameters
+        ----------
+        points_enu : array_like, shape (..., 3)
+            Field points in the site frame (east, north, up). [m]
+
+        Returns
+        -------
+        s_w_m2 : ndarray, shape (...)
+            ``F |E_rms|^2 / eta0``; NaN where not assessable. [W/m^2]
+        assessable : ndarray of bool, shape (...)
+            False inside the reactive radius or within ``lambda/(2 pi)`` of the column.
+
+        Notes
+        -----
+        With ``R`` the distance from element ``n`` (moment ``p_n``) and ``c = cos``,
+        ``s = sin`` of its polar angle (Balanis eqs. 4-8a, 4-10a, 4-10b)::
+
+            E_r = eta p_n c / (2 pi R^2) (1 + 1/(j k R)) exp(-j k R)
+            E_t = j eta k p_n s / (4 pi R) (1 + 1/(j k R) - 1/(k R)^2) exp(-j k R)
+            E_rho = sum_n (E_r s + E_t c),   E_z = sum_n (E_r c - E_t s)
+            S = F e(phi, el) (|E_rho|^2 + |E_z|^2) / (2 eta)
+
+        ``phi``, ``el`` are the pattern angles of the point seen from the radiation centre
+        (the element factor is common to all elements of the column).
+        """
+        pts = np.asarray(points_enu, dtype=float)
+        shape = pts.shape[:-1]
+        d = pts.reshape(-1, 3) - self.position_m
+        xa, ya, za = to_antenna_frame(d, self.azimuth_deg, self.mechanical_tilt_deg)
+        r, phi, theta = antenna_angles(xa, ya, za)
+        rho = np.hypot(xa, ya)
+        z_near = np.clip(za, self.z_m[0], self.z_m[-1])
+        near_column = np.hypot(rho, za - z_near) < self.column_clearance_m
+        ok = (r >= self.reactive_radius_m) & ~near_column & np.isfinite(r)
+        s = np.full(r.shape, np.nan)
+        idx = np.flatnonzero(ok)
+        step = max(1, _CHUNK_ELEMENTS // self.z_m.size)
+        for i0 in range(0, idx.size, step):
+            sel = idx[i0 : i0 + step]
+            s[sel] = self._density(rho[sel], za[sel]) * self._element(phi[sel], theta[sel])
+        return s.reshape(shape) * self.reflection_factor, ok.reshape(shape)
+
+    def _density(self, rho, za) -> np.ndarray:
+        """Density of the column without the element factor at cylindrical (rho, z). [W/m^2]"""
+        k = 2.0 * np.pi / self.wavelength_m
+        dz = za[None, :] - self.z_m[:, None]  # (n_sub, n_point)
+        rr = np.hypot(rho[None, :], dz)
+        c = dz / rr
+        sn = rho[None, :] / rr
+        kr = k * rr
+        ph = np.exp(-1j * kr)
+        inv = 1.0 / (1j * kr)
+        e_r = (ETA0 / (2.0 * np.pi)) * c / rr**2 * (1.0 + inv) * ph
+        e_t = (1j * ETA0 * k / (4.0 * np.pi)) * sn / rr * (1.0 + inv - 1.0 / kr**2) * ph
+        e_rho = self.moments @ (e_r * sn + e_t * c)
+        e_z = self.moments @ (e_r * c - e_t * sn)
+        return (np.abs(e_rho) ** 2 + np.abs(e_z) ** 2) / (2.0 * ETA0)
+
+
+def _lookup(table, phi, theta) -> np.ndarray:
+    """Bilinear interpolation of a (360, 181) table on 1 deg steps, periodic in phi. [1]"""
+    n_phi, n_el = table.shape
+    x = np.mod(np.rad2deg(np.asarray(phi, dtype=float)), 360.0) / _AZ_STEP_DEG
+    y = np.clip(np.rad2deg(np.asarray(theta, dtype=float)), -90.0, 90.0) + 90.0
+    i0 = np.floor(x).astype(np.int64)
+    j0 = np.minimum(np.floor(y).astype(np.int64), n_el - 2)
+    tx, ty = x - i0, y - j0
+    i0 %= n_phi
+    i1 = (i0 + 1) % n_phi
+    flat = table.ravel()
+    g00, g01 = flat[i0 * n_el + j0], flat[i0 * n_el + j0 + 1]
+    g10, g11 = flat[i1 * n_el + j0], flat[i1 * n_el + j0 + 1]
+    return (1 - tx) * ((1 - ty) * g00 + ty * g01) + tx * ((1 - ty) * g10 + ty * g11)
+
+
+def _radiated_power(w, z, k, table) -> tuple[float, float]:
+    """Radiated power and peak radiation intensity (numerical integration over the sphere).
+
+    Gauss-Legendre in ``u = sin(el)`` (so that ``dOmega = du dphi``) and the periodic
+    trapezoidal rule in azimuth on the element table's 1 deg grid, for the far field
+    ``E = j eta k / (4 pi r) cos(el) AF sqrt(e)``. Returns ``(P [W], U_max [W/sr])``.
+    """
+    n_u = int(max(256, 6 * k * (z.max() - z.min() + 1e-12)))
+    u, wu = np.polynomial.legendre.leggauss(n_u)
+    el = np.concatenate([np.arcsin(u), np.deg2rad(np.arange(-90.0, 90.0 + 1e-9, 0.05))])
+    af = np.exp(1j * k * np.outer(np.sin(el), z)) @ w
+    const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
+    vert = const * np.cos(el) ** 2 * np.abs(af) ** 2
+    phi = np.deg2rad(np.arange(table.shape[0]) * _AZ_STEP_DEG)
+    e = _lookup(table, phi[:, None], el[None, :])  # (n_phi, n_el)
+    ring = e[:, :n_u].mean(axis=0) * 2.0 * np.pi
+    p = float(np.sum(wu * ring * vert[:n_u]))
+    return p, float(np.max(e * vert[None, :]))
+
+
+_CACHE: dict = {}
+_CACHE_SIZE = 64
+
+
+def _cache_key(rad: Radiator) -> tuple:
+    return (
+        tuple(np.asarray(rad.position_m, dtype=float).reshape(3).tolist()),
+        rad.azimuth_deg, rad.mechanical_tilt_deg, rad.electrical_tilt_deg, rad.frequency_hz,
+        rad.power_w, id(rad.pattern), rad.aperture_height_m, rad.aperture_width_m,
+        rad.diameter_m, rad.reflection_factor,
+    )
+
+
+def array_model(rad: Radiator) -> ArraySynthesis:
+    """The :class:`ArraySynthesis` of ``rad``, built once and reused for later chunks."""
+    key = _cache_key(rad)
+    hit = _CACHE.get(key)
+    if hit is not None and hit[0] is rad.pattern:
+        return hit[1]
+    model = ArraySynthesis.from_radiator(rad)
+    if len(_CACHE) >= _CACHE_SIZE:
+        _CACHE.pop(next(iter(_CACHE)))
+    _CACHE[key] = (rad.pattern, model)  # holding the pattern keeps its id unique
+    return model
+
+
+def array_power_density(rad: Radiator, points_enu) -> tuple[np.ndarray, np.ndarray]:
+    """Array-synthesis density of one radiator at field points.
+
+    Parameters
+    ----------
+    rad : Radiator
+        The antenna (needs ``aperture_height_m``). The column is built on the first call and
+        reused for further chunks of the same radiator (see :func:`array_model`).
+    points_enu : array_like, shape (..., 3)
+        Field points in the site frame. [m]
+
+    Returns
+    -------
+    s_w_m2, assessable : ndarray
+        See :meth:`ArraySynthesis.power_density`. [W/m^2], [bool]
+    """
+    return array_model(rad).power_density(points_enu)
