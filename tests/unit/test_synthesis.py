@@ -123,14 +123,17 @@ def test_additive_recovers_a_separable_pattern():
     np.testing.assert_allclose(p.gain_dbi(phi, np.deg2rad(el)), expect, atol=1e-9)
 
 
-def test_poles_are_continuous_for_weighted_bilinear():
+def test_weighted_bilinear_on_the_pole_mixes_in_the_horizontal_cut():
+    """At the zenith the vertical cuts rule on their own planes; across the sides the horizontal
+    cut at phi and phi + 180 weighs in equally (W_A = 45 = W_E at phi = 90)."""
     rng = np.random.default_rng(1)
     h, vf, vb = consistent_cuts(rng.uniform(-30, 15, H_ANG.size), rng.uniform(-30, 15, V_ANG.size),
                                 rng.uniform(-30, 15, V_ANG.size))
     p = table(h, vf, vb)
-    phi = np.deg2rad(np.arange(1.0, 359.0, 5.0))
-    near = p.gain_dbi(phi, np.deg2rad(89.999))
-    np.testing.assert_allclose(near, 0.5 * (vf[-1] + vb[-1]), atol=0.01)
+    assert float(p.gain_dbi(0.0, np.pi / 2)) == pytest.approx(vf[-1])
+    assert float(p.gain_dbi(np.pi, np.pi / 2)) == pytest.approx(vb[-1])
+    side = 0.5 * (0.5 * (vf[-1] + vb[-1])) + 0.5 * (0.5 * (h[9] + h[27]))
+    assert float(p.gain_dbi(np.pi / 2, np.pi / 2)) == pytest.approx(side)
 
 
 def test_broadcasting_and_attributes():
