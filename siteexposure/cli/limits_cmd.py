@@ -182,7 +182,7 @@ def limits(
         memory = _show_bands(console, chosen or available_sets())
     else:
         targets = chosen or available_sets()
-        rows = table_rows(targets, frequencies, skip_out_of_range=not chosen)
+        rows = table_rows(targets, frequencies or None, skip_out_of_range=not chosen)
         if not rows:
             asked = ", ".join(f"{f:g}" for f in frequencies or [])
             raise LimitsError(
@@ -194,11 +194,16 @@ def limits(
             return
         memory = _show_rows(console, rows)
         if frequencies and not chosen:
-            covered = {row["set"] for row in rows}
-            left_out = [s for s in targets if s not in covered]
-            if left_out:
+            asked_f = set(frequencies)
+            partial = [
+                s
+                for s in targets
+                if {row["frequency_mhz"] for row in rows if row["set"] == s} != asked_f
+            ]
+            if partial:
                 console.print(
-                    f"Not covering every frequency asked: {', '.join(left_out)}.", soft_wrap=True
+                    f"Left out where the table does not reach the frequency: {', '.join(partial)}.",
+                    soft_wrap=True,
                 )
     if memory:
         console.print(FROM_MEMORY_NOTE, soft_wrap=True)

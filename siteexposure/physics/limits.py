@@ -311,6 +311,15 @@ class LimitSet:
     def band_index(self, frequency_mhz: Any, population: str, region: str = "whole-body"):
         """Index into :attr:`bands` of the band holding each frequency (shape of the input).
 
+        Parameters
+        ----------
+        frequency_mhz : array_like
+            Frequencies. [MHz]
+        population : {"general", "occupational"}
+            Population class.
+        region : {"whole-body", "local"}, optional
+            Exposure region.
+
         Raises
         ------
         LimitsError
