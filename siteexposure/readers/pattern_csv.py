@@ -43,6 +43,7 @@ from siteexposure.atomic import write_text
 from siteexposure.errors import PatternError
 from siteexposure.physics.synthesis import (
     CROSSING_TOLERANCE_DB,
+    DEFAULT_SYNTHESIS_METHOD,
     PEAK_TOLERANCE_DB,
     SYNTHESIS_METHODS,
     TablePattern,
@@ -246,7 +247,7 @@ def _read_text(path: Path) -> str:
     return text
 
 
-def pattern_from_text(text: str, src: str, *, method: str = "weighted-bilinear") -> TablePattern:
+def pattern_from_text(text: str, src: str, *, method: str = DEFAULT_SYNTHESIS_METHOD) -> TablePattern:
     """Build a :class:`TablePattern` from the text of a pattern CSV v1 file named ``src``."""
     if method not in SYNTHESIS_METHODS:
         raise PatternError(f"pattern file '{src}': synthesis method {method!r} is unknown; "
@@ -279,7 +280,7 @@ def pattern_from_text(text: str, src: str, *, method: str = "weighted-bilinear")
     return pattern
 
 
-def read_pattern_csv(path: Path | str, *, method: str = "weighted-bilinear") -> TablePattern:
+def read_pattern_csv(path: Path | str, *, method: str = DEFAULT_SYNTHESIS_METHOD) -> TablePattern:
     """Read a pattern CSV v1 file into a :class:`~siteexposure.physics.synthesis.TablePattern`.
 
     Parameters
@@ -288,7 +289,8 @@ def read_pattern_csv(path: Path | str, *, method: str = "weighted-bilinear") -> 
         The file.
     method : str
         3-D synthesis method, one of
-        :data:`~siteexposure.physics.synthesis.SYNTHESIS_METHODS`.
+        :data:`~siteexposure.physics.synthesis.SYNTHESIS_METHODS`; default ``"additive"``
+        (:data:`~siteexposure.physics.synthesis.DEFAULT_SYNTHESIS_METHOD`).
 
     Returns
     -------

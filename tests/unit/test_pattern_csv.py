@@ -53,8 +53,8 @@ def test_reads_a_valid_file(tmp_path):
     assert p.peak_gain_dbi == 10.0
     assert p.metadata["name"] == "demo"
     assert float(p.gain_dbi(0.0, 0.0)) == pytest.approx(10.0)
-    assert p.method == "weighted-bilinear"
-    assert read_pattern_csv(f, method="additive").method == "additive"
+    assert p.method == "additive"
+    assert read_pattern_csv(f, method="weighted-bilinear").method == "weighted-bilinear"
 
 
 def test_tolerated_variations(tmp_path):
