@@ -161,6 +161,43 @@ def crossover_distance_m(peak_gain, aperture_height_m, hpbw_h_deg=360.0):
     )
 
 
+def power_consistent_beamwidth_deg(make_pattern, lo_deg: float = 0.3, hi_deg: float = 180.0):
+    """Beamwidth at which a family of patterns radiates exactly the power put in.
+
+    Parameters
+    ----------
+    make_pattern : callable
+        ``make_pattern(beamwidth_deg) -> GainPattern`` with the peak gain held fixed.
+    lo_deg, hi_deg : float
+        Search interval. [deg]
+
+    Returns
+    -------
+    float or None
+        The beamwidth where ``(1/4 pi) oint G dOmega = 1`` (power conservation of a
+        lossless pattern), or None where no beamwidth in the interval gives it. [deg]
+
+    Notes
+    -----
+    Used where a datasheet gives the gain and one beamwidth but not the other: the
+    missing one follows from energy conservation, so that the pattern, the gain and the
+    power agree (the array-synthesis model normalises to radiated power and would
+    otherwise disagree with the far-field formula). The sphere integral is
+    :func:`siteexposure.physics.synthesis.directivity_ratio`.
+    """
+    from scipy.optimize import brentq
+
+    from siteexposure.physics.synthesis import directivity_ratio
+
+    def excess(bw):
+        return directivity_ratio(make_pattern(bw)) - 1.0
+
+    f_lo, f_hi = excess(lo_deg), excess(hi_deg)
+    if f_lo * f_hi > 0.0:
+        return None
+    return float(brentq(excess, lo_deg, hi_deg, xtol=1e-4))
+
+
 def peak_elevation_rad(pattern) -> float:
     """Elevation of the pattern maximum on the boresight vertical cut (phi = 0). [rad]"""
     theta = np.deg2rad(np.arange(-90.0, 90.0 + _ELEV_STEP_DEG / 2, _ELEV_STEP_DEG))

@@ -29,7 +29,7 @@ Keep-out distances
 from __future__ import annotations
 
 import importlib.util
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -65,11 +65,17 @@ class ModelChoice:
         Model name that says where it comes from (``MODEL_IDS[word]``).
     reason : str
         One sentence for the report: requested, or why ``auto`` chose it.
+    prepared : dict
+        Work a model does once per antenna and reuses on every chunk of points (the
+        array-synthesis column); filled by :func:`power_density`, keyed by model word and
+        holding ``(radiator, model)`` so that it is never reused for another antenna.
+        Not part of equality or the repr.
     """
 
     word: str
     model_id: str
     reason: str
+    prepared: dict = field(default_factory=dict, compare=False, repr=False)
 
 
 def array_model_available() -> bool:
@@ -199,9 +205,7 @@ def power_density(rad, choice: ModelChoice, points_enu) -> tuple[np.ndarray, np.
         s = aperture_power_density(rad, pts)
         ok = np.ones(len(pts), dtype=bool)
     elif word == "array":
-        from siteexposure.physics.array import array_power_density
-
-        s, ok = array_power_density(rad, pts)
+        s, ok = _prepared_array(rad, choice).power_density(pts)
         s = np.asarray(s, dtype=float)
         ok = np.asarray(ok, dtype=bool)
     else:
@@ -210,6 +214,17 @@ def power_density(rad, choice: ModelChoice, points_enu) -> tuple[np.ndarray, np.
     r = np.sqrt(np.einsum("ij,ij->i", d, d))
     ok = ok & (r >= reactive_radius_m(rad)) & np.isfinite(s)
     return np.where(ok, s, np.nan), ok
+
+
+def _prepared_array(rad, choice: ModelChoice):
+    """The array-synthesis column of ``rad``, built once and kept on ``choice``."""
+    entry = choice.prepared.get("array")
+    if entry is None or entry[0] is not rad:
+        from siteexposure.physics.array import ArraySynthesis
+
+        entry = (rad, ArraySynthesis.from_radiator(rad))
+        choice.prepared["array"] = entry
+    return entry[1]
 
 
 def keep_out_directions_enu(azimuth_deg: float) -> dict[str, np.ndarray]:
