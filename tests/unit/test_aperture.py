@@ -10,33 +10,14 @@ from hypothesis import strategies as st
 from siteexposure.constants import C0
 from siteexposure.errors import InputError
 from siteexposure.physics import aperture as ap
+from siteexposure.physics.patterns import parametric_pattern
 from siteexposure.physics.radiator import Radiator
 
 
-class ParabolicF699:
-    """ITU-R F.699-8 reference pattern for D/lambda > 100 (from memory):
-    G = Gmax - 2.5e-3 (D/lambda * psi)^2 up to psi_m, then G1 = 2 + 15 log10(D/lambda) to
-    psi_r = 15.85 (D/lambda)^-0.6, then 32 - 25 log10(psi) down to -10 dBi beyond 48 deg."""
-
-    name = "test F.699 dish"
-    electrical_tilt_deg = 0.0
-    source = "ITU-R F.699"
-
-    def __init__(self, gain_dbi, d_over_lambda):
-        self.peak_gain_dbi = gain_dbi
-        self.dl = d_over_lambda
-
-    def gain(self, phi, theta):
-        x = np.cos(np.asarray(theta, dtype=float)) * np.cos(np.asarray(phi, dtype=float))
-        psi = np.rad2deg(np.arccos(np.clip(x, -1.0, 1.0)))
-        g1 = 2.0 + 15.0 * np.log10(self.dl)
-        psi_m = 20.0 / self.dl * np.sqrt(max(self.peak_gain_dbi - g1, 0.0))
-        psi_r = 15.85 * self.dl**-0.6
-        with np.errstate(divide="ignore"):
-            side = 32.0 - 25.0 * np.log10(np.maximum(psi, 1e-9))
-        g = np.where(psi < psi_m, self.peak_gain_dbi - 2.5e-3 * (self.dl * psi) ** 2,
-                     np.where(psi < psi_r, g1, np.where(psi < 48.0, side, -10.0)))
-        return 10.0 ** (g / 10.0)
+def _f699(gain_dbi, d_m):
+    """Rec. ITU-R F.699-8 reference dish pattern (the package's ``parabolic`` model)."""
+    return parametric_pattern({"model": "parabolic", "gain_dbi": gain_dbi, "diameter_m": d_m},
+                              frequency_mhz=F_HZ / 1e6)
 
 
 F_HZ = 18e9
@@ -45,7 +26,7 @@ D = 1.8  # D/lambda = 108, inside the F.699 range D/lambda > 100
 
 
 def _dish(gain_dbi=48.0, power_w=1.0, d=D, **kw):
-    return Radiator(np.zeros(3), 0.0, 0.0, 0.0, F_HZ, power_w, ParabolicF699(gain_dbi, d / LAM),
+    return Radiator(np.zeros(3), 0.0, 0.0, 0.0, F_HZ, power_w, _f699(gain_dbi, d),
                     diameter_m=d, **kw)
 
 
@@ -129,7 +110,7 @@ def test_closed_form_peak_and_far_limit():
 
 
 def test_missing_diameter_raises():
-    rad = Radiator(np.zeros(3), 0.0, 0.0, 0.0, F_HZ, 1.0, ParabolicF699(48.0, D / LAM))
+    rad = Radiator(np.zeros(3), 0.0, 0.0, 0.0, F_HZ, 1.0, _f699(48.0, D))
     with pytest.raises(InputError, match="diameter"):
         ap.aperture_power_density(rad, np.zeros((1, 3)))
 

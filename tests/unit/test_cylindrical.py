@@ -10,28 +10,19 @@ from hypothesis import strategies as st
 from siteexposure.errors import InputError
 from siteexposure.physics import cylindrical as cyl
 from siteexposure.physics.farfield import far_field_power_density_w_m2
+from siteexposure.physics.patterns import parametric_pattern
 from siteexposure.physics.radiator import Radiator
 
 
-class Panel3gpp:
-    """3GPP TR 38.901 V16.1.0 Table 7.3-1 element pattern (theta'' - 90 deg = -elevation)."""
+def _panel(hpbw_h=65.0, front_to_back_db=30.0):
+    """3GPP TR 38.901 Table 7.3-1 form with whole-panel parameters (the package's model)."""
+    return parametric_pattern({"model": "3gpp-panel", "gain_dbi": 17.0, "hpbw_h_deg": hpbw_h,
+                               "hpbw_v_deg": 7.0, "front_to_back_db": front_to_back_db})
 
-    name = "test 3gpp panel"
-    electrical_tilt_deg = 0.0
-    source = "3GPP TR 38.901 Table 7.3-1"
 
-    def __init__(self, gain_dbi=17.0, hpbw_h=65.0, hpbw_v=7.0, a_max=30.0, sla_v=30.0,
-                 omni=False):
-        self.peak_gain_dbi = gain_dbi
-        self.hh, self.hv, self.a_max, self.sla_v, self.omni = hpbw_h, hpbw_v, a_max, sla_v, omni
-
-    def gain(self, phi, theta):
-        p = np.rad2deg(np.angle(np.exp(1j * np.asarray(phi, dtype=float))))
-        el = np.rad2deg(np.asarray(theta, dtype=float)) + 0.0 * p
-        a_v = -np.minimum(12.0 * (el / self.hv) ** 2, self.sla_v)
-        a_h = 0.0 if self.omni else -np.minimum(12.0 * (p / self.hh) ** 2, self.a_max)
-        a = -np.minimum(-(a_v + a_h), self.a_max)
-        return 10.0 ** ((self.peak_gain_dbi + a) / 10.0)
+def _omni(gain_dbi=10.0):
+    """Rec. ITU-R F.1336-5 omnidirectional pattern (the package's model)."""
+    return parametric_pattern({"model": "itu-f1336-omni", "gain_dbi": gain_dbi})
 
 
 H = 1.4
@@ -40,7 +31,7 @@ F_HZ = 1950e6
 
 def _rad(pattern=None, power_w=80.0, h=H, **kw):
     kw.setdefault("reflection_factor", 1.0)
-    return Radiator(np.zeros(3), 0.0, 0.0, 0.0, F_HZ, power_w, pattern or Panel3gpp(),
+    return Radiator(np.zeros(3), 0.0, 0.0, 0.0, F_HZ, power_w, pattern or _panel(),
                     aperture_height_m=h, aperture_width_m=0.3, **kw)
 
 
@@ -71,16 +62,16 @@ def test_hpbw_measured_from_a_3gpp_pattern():
     """The 3GPP form is 3.000 dB down at phi = +-theta_3dB/2 (TR 38.901 Table 7.3-1), so its
     half-power (3.0103 dB) width is theta_3dB sqrt(10 log10(2) / 3)."""
     k = np.sqrt(10 * np.log10(2.0) / 3.0)
-    assert cyl.horizontal_hpbw_deg(Panel3gpp(hpbw_h=65.0)) == pytest.approx(65.0 * k, abs=0.01)
-    assert cyl.horizontal_hpbw_deg(Panel3gpp(hpbw_h=33.0)) == pytest.approx(33.0 * k, abs=0.01)
-    assert cyl.horizontal_hpbw_deg(Panel3gpp(omni=True)) == 360.0
-    assert cyl.peak_elevation_rad(Panel3gpp()) == pytest.approx(0.0, abs=1e-9)
+    assert cyl.horizontal_hpbw_deg(_panel(hpbw_h=65.0)) == pytest.approx(65.0 * k, abs=0.01)
+    assert cyl.horizontal_hpbw_deg(_panel(hpbw_h=33.0)) == pytest.approx(33.0 * k, abs=0.01)
+    assert cyl.horizontal_hpbw_deg(_omni()) == 360.0
+    assert cyl.peak_elevation_rad(_panel()) == pytest.approx(0.0, abs=1e-9)
 
 
 def test_omni_power_through_the_cylinder_wall_is_the_input_power():
     """Inside R_c the omni model carries exactly P through the lateral surface 2 pi R h
     (the premise of the OET-65 cylindrical model)."""
-    pat = Panel3gpp(gain_dbi=10.0, hpbw_v=8.0, omni=True)
+    pat = _omni(10.0)
     rad = _rad(pat, power_w=80.0, h=3.0)
     r = 2.0
     assert r < cyl.crossover_distance_m(10.0, 3.0)
@@ -121,7 +112,7 @@ def test_uniform_over_the_aperture_height_and_lower_above_it():
 
 
 def test_behind_scaled_by_the_front_to_back_ratio():
-    rad = _rad(Panel3gpp(a_max=25.0))
+    rad = _rad(_panel(front_to_back_db=25.0))
     front, back = cyl.cylindrical_power_density(rad, np.array([[0, 2.0, 0.0], [0, -2.0, 0.0]]))
     assert 10 * np.log10(front / back) == pytest.approx(25.0, abs=1e-9)
 

@@ -13,28 +13,18 @@ from siteexposure.constants import C0
 from siteexposure.errors import InputError
 from siteexposure.physics import sources
 from siteexposure.physics.cylindrical import crossover_distance_m, horizontal_hpbw_deg
+from siteexposure.physics.patterns import parametric_pattern
 from siteexposure.physics.radiator import Radiator
 
 
-class Panel3gpp:
-    """3GPP TR 38.901 V16.1.0 Table 7.3-1 element pattern (theta'' - 90 deg = -elevation)."""
+def _panel():
+    """3GPP TR 38.901 Table 7.3-1 form with whole-panel parameters (the package's model)."""
+    return parametric_pattern({"model": "3gpp-panel", "gain_dbi": 17.0, "hpbw_h_deg": 65.0,
+                               "hpbw_v_deg": 7.0})
 
-    name = "test 3gpp panel"
-    electrical_tilt_deg = 0.0
-    source = "3GPP TR 38.901 Table 7.3-1"
 
-    def __init__(self, gain_dbi=17.0, hpbw_h=65.0, hpbw_v=7.0, a_max=30.0, sla_v=30.0):
-        self.peak_gain_dbi = gain_dbi
-        self.hh, self.hv, self.a_max, self.sla_v = hpbw_h, hpbw_v, a_max, sla_v
-
-    def db(self, phi_deg, el_deg):
-        a_v = -np.minimum(12.0 * (el_deg / self.hv) ** 2, self.sla_v)
-        a_h = -np.minimum(12.0 * (phi_deg / self.hh) ** 2, self.a_max)
-        return self.peak_gain_dbi - np.minimum(-(a_v + a_h), self.a_max)
-
-    def gain(self, phi, theta):
-        p = np.rad2deg(np.angle(np.exp(1j * np.asarray(phi, dtype=float))))
-        return 10.0 ** (self.db(p, np.rad2deg(np.asarray(theta, dtype=float))) / 10.0)
+def _db(pattern, phi_deg, el_deg):
+    return float(pattern.gain_dbi(np.deg2rad(phi_deg), np.deg2rad(el_deg)))
 
 
 F_HZ = 1950e6
@@ -42,7 +32,7 @@ LAM = C0 / F_HZ
 
 
 def _rad(power_w=80.0, azimuth=30.0, tilt=0.0, **kw):
-    return Radiator(np.array([5.0, -3.0, 20.0]), azimuth, tilt, 0.0, F_HZ, power_w, Panel3gpp(),
+    return Radiator(np.array([5.0, -3.0, 20.0]), azimuth, tilt, 0.0, F_HZ, power_w, _panel(),
                     **kw)
 
 
@@ -112,9 +102,9 @@ def test_far_field_keep_out_matches_the_closed_form_in_every_direction():
     pat = rad.pattern
     limit = 1.0
     ko = sources.keep_out_distances(rad, sources.choose_model(rad, "far-field"), limit)
-    gains_db = {"front": pat.db(0.0, 0.0), "behind": pat.db(180.0, 0.0),
-                "left": pat.db(-90.0, 0.0), "right": pat.db(90.0, 0.0),
-                "above": pat.db(0.0, 90.0), "below": pat.db(0.0, -90.0)}
+    gains_db = {"front": _db(pat, 0.0, 0.0), "behind": _db(pat, 180.0, 0.0),
+                "left": _db(pat, -90.0, 0.0), "right": _db(pat, 90.0, 0.0),
+                "above": _db(pat, 0.0, 90.0), "below": _db(pat, 0.0, -90.0)}
     for name, g_db in gains_db.items():
         expect = np.sqrt(80.0 * 10 ** (g_db / 10) * 2.56 / (4 * np.pi * limit))
         assert ko[name] == pytest.approx(expect, rel=1e-6), name
@@ -123,7 +113,7 @@ def test_far_field_keep_out_matches_the_closed_form_in_every_direction():
 def test_front_is_measured_horizontally_even_with_mechanical_tilt():
     rad = _rad(power_w=80.0, tilt=5.0)
     ko = sources.keep_out_distances(rad, sources.choose_model(rad, "far-field"), 2.0)
-    g = 10 ** (rad.pattern.db(0.0, 5.0) / 10)  # the horizon is 5 deg above the tilted beam
+    g = 10 ** (_db(rad.pattern, 0.0, 5.0) / 10)  # the horizon is 5 deg above the tilted beam
     assert ko["front"] == pytest.approx(np.sqrt(80.0 * g / (4 * np.pi * 2.0)), rel=1e-6)
 
 
