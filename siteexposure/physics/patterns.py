@@ -39,6 +39,10 @@ PARAMETRIC_MODELS = (
 )
 
 
+#: Depth below the peak at which the cut methods report an exact null (the dipole's axis). [dB]
+CUT_FLOOR_DB = 100.0
+
+
 def _wrap_deg(phi) -> np.ndarray:
     """Azimuth [rad] -> degrees in [-180, 180)."""
     return np.mod(np.rad2deg(np.asarray(phi, dtype=float)) + 180.0, 360.0) - 180.0
@@ -117,18 +121,23 @@ class ParametricPattern:
         return dbi_to_linear(self.gain_dbi(phi, theta))
 
     def horizontal_cut(self, phi) -> np.ndarray:
-        """Gain on the antenna's horizontal plane (``theta = 0``) at azimuths ``phi`` [rad]. [dBi]"""
+        """Gain on the antenna's horizontal plane (``theta = 0``) at azimuths ``phi`` [rad]. [dBi]
+
+        Exact nulls are returned :data:`CUT_FLOOR_DB` below the peak (finite for plots and files).
+        """
         phi = np.asarray(phi, dtype=float)
-        return np.broadcast_to(self.gain_dbi(phi, 0.0), phi.shape).copy()
+        g = np.broadcast_to(self.gain_dbi(phi, 0.0), phi.shape)
+        return np.maximum(g, self.peak_gain_dbi - CUT_FLOOR_DB)
 
     def vertical_cut(self, theta, side: str = "front") -> np.ndarray:
         """Gain on the front (``phi = 0``) or back (``phi = pi``) half-plane at elevations
-        ``theta`` [rad]. [dBi]"""
+        ``theta`` [rad]; exact nulls :data:`CUT_FLOOR_DB` below the peak. [dBi]"""
         if side not in ("front", "back"):
             raise PatternError(f"model '{self.name}': side {side!r} is unknown; expected front or back")
         theta = np.asarray(theta, dtype=float)
         phi = 0.0 if side == "front" else np.pi
-        return np.broadcast_to(self.gain_dbi(phi, theta), theta.shape).copy()
+        g = np.broadcast_to(self.gain_dbi(phi, theta), theta.shape)
+        return np.maximum(g, self.peak_gain_dbi - CUT_FLOOR_DB)
 
 
 class IsotropicPattern(ParametricPattern):

@@ -445,12 +445,15 @@ class ScaledPattern:
         return self.factor * np.asarray(self.base.gain(phi, theta), dtype=float)
 
     def horizontal_cut(self, phi) -> np.ndarray:
-        """Horizontal cut of the scaled pattern. [dBi]"""
-        return linear_to_dbi(self.gain(phi, 0.0))
+        """Horizontal cut of the scaled pattern; exact nulls 100 dB below the peak. [dBi]"""
+        return np.maximum(linear_to_dbi(self.gain(phi, 0.0)), self.peak_gain_dbi - 100.0)
 
     def vertical_cut(self, theta, side: str = "front") -> np.ndarray:
-        """Front or back vertical cut of the scaled pattern. [dBi]"""
-        return linear_to_dbi(self.gain(0.0 if side == "front" else np.pi, theta))
+        """Front or back vertical cut of the scaled pattern; nulls 100 dB below the peak. [dBi]"""
+        if side not in ("front", "back"):
+            raise PatternError(f"pattern '{self.name}': side {side!r} is unknown; expected front or back")
+        g = linear_to_dbi(self.gain(0.0 if side == "front" else np.pi, theta))
+        return np.maximum(g, self.peak_gain_dbi - 100.0)
 
 
 def normalised(pattern: GainPattern, n_theta: int = 48, n_phi: int = 48) -> GainPattern:
