@@ -237,3 +237,23 @@ def test_sample_cuts_floors_nulls_and_feeds_table_pattern():
     t = TablePattern(**{k: v for k, v in cuts.items() if k != "peak_gain_dbi"},
                      peak_gain_dbi=cuts["peak_gain_dbi"])
     assert t.peak_gain_dbi == pytest.approx(dip.peak_gain_dbi)
+
+
+@settings(max_examples=80, deadline=None)
+@given(st.lists(st.floats(-90.0, 90.0), min_size=2, max_size=60, unique=True),
+       st.integers(0, 2**32 - 1), st.booleans(), st.booleans())
+def test_fast_lookup_equals_numpy_interp(angles, seed, periodic, force_slow):
+    """The O(1) segment lookup gives numpy.interp's values (clamped or wrapped) exactly."""
+    from siteexposure.physics.synthesis import _Lerp
+
+    xp = np.sort(np.array(angles)) + (90.0 if periodic else 0.0)  # periodic: within 0..180
+    if xp[-1] - xp[0] == 0.0:
+        return
+    rng = np.random.default_rng(seed)
+    fp = rng.normal(size=xp.size)
+    lerp = _Lerp(xp, fp, period=360.0 if periodic else None)
+    if force_slow:
+        lerp.fast = False
+    x = np.concatenate([rng.uniform(-400.0, 400.0, 2000), xp])
+    ref = np.interp(x, xp, fp, period=360.0) if periodic else np.interp(x, xp, fp)
+    np.testing.assert_allclose(lerp(x), ref, rtol=0, atol=1e-12)
