@@ -247,7 +247,7 @@ def test_fast_lookup_equals_numpy_interp(angles, seed, periodic, force_slow):
     from siteexposure.physics.synthesis import _Lerp
 
     xp = np.sort(np.array(angles)) + (90.0 if periodic else 0.0)  # periodic: within 0..180
-    if xp[-1] - xp[0] == 0.0:
+    if np.any(np.diff(xp) <= 0.0):  # angles that coincide after the shift (TablePattern refuses)
         return
     rng = np.random.default_rng(seed)
     fp = rng.normal(size=xp.size)
