@@ -51,15 +51,23 @@ References
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
+from numpy.typing import ArrayLike
 
 from siteexposure.errors import InputError
 from siteexposure.physics.orientation import antenna_angles, to_antenna_frame
 
+if TYPE_CHECKING:
+    from siteexposure.physics.radiator import Radiator
+
 OFF_AXIS_REDUCTION = 0.01  #: OET-65 off-axis near-field reduction, at least 20 dB [1]
 
 
-def aperture_efficiency(gain, diameter_m, wavelength_m):
+def aperture_efficiency(
+    gain: ArrayLike, diameter_m: ArrayLike, wavelength_m: ArrayLike
+) -> np.ndarray:
     """Aperture efficiency from gain, ``eta = G lambda^2 / (pi D)^2``. [1]
 
     References
@@ -77,19 +85,21 @@ def aperture_efficiency(gain, diameter_m, wavelength_m):
     return np.asarray(gain, dtype=float) * lam * lam / (np.pi * d) ** 2
 
 
-def near_field_extent_m(diameter_m, wavelength_m):
+def near_field_extent_m(diameter_m: ArrayLike, wavelength_m: ArrayLike) -> np.ndarray:
     """Extent of the aperture near field along the axis, ``R_nf = D^2 / (4 lambda)``. [m]"""
     d = np.asarray(diameter_m, dtype=float)
     return d * d / (4.0 * np.asarray(wavelength_m, dtype=float))
 
 
-def far_field_onset_m(diameter_m, wavelength_m):
+def far_field_onset_m(diameter_m: ArrayLike, wavelength_m: ArrayLike) -> np.ndarray:
     """Start of the aperture far field in the OET-65 model, ``R_ff = 0.6 D^2 / lambda``. [m]"""
     d = np.asarray(diameter_m, dtype=float)
     return 0.6 * d * d / np.asarray(wavelength_m, dtype=float)
 
 
-def near_field_power_density_w_m2(power_w, efficiency, diameter_m):
+def near_field_power_density_w_m2(
+    power_w: ArrayLike, efficiency: ArrayLike, diameter_m: ArrayLike
+) -> np.ndarray:
     """Maximum on-axis near-field density ``S_nf = 16 eta P / (pi D^2)``. [W/m^2]
 
     Notes
@@ -98,12 +108,22 @@ def near_field_power_density_w_m2(power_w, efficiency, diameter_m):
     of the Fresnel-zone oscillation of a uniform aperture is ``4 P / A``.
     """
     d = np.asarray(diameter_m, dtype=float)
-    return 16.0 * np.asarray(efficiency, dtype=float) * np.asarray(power_w, dtype=float) / (
-        np.pi * d * d
+    return (
+        16.0
+        * np.asarray(efficiency, dtype=float)
+        * np.asarray(power_w, dtype=float)
+        / (np.pi * d * d)
     )
 
 
-def on_axis_power_density_w_m2(power_w, gain, diameter_m, wavelength_m, r_m, reflection_factor=1.0):
+def on_axis_power_density_w_m2(
+    power_w: ArrayLike,
+    gain: ArrayLike,
+    diameter_m: ArrayLike,
+    wavelength_m: ArrayLike,
+    r_m: ArrayLike,
+    reflection_factor: ArrayLike = 1.0,
+) -> np.ndarray:
     """OET-65 on-axis density of a dish at axial distance ``r_m`` (all three regions).
 
     Parameters
@@ -146,7 +166,9 @@ def on_axis_power_density_w_m2(power_w, gain, diameter_m, wavelength_m, r_m, ref
     return np.asarray(reflection_factor, dtype=float) * s
 
 
-def uniform_circular_aperture_on_axis_w_m2(power_w, radius_m, wavelength_m, z_m):
+def uniform_circular_aperture_on_axis_w_m2(
+    power_w: ArrayLike, radius_m: ArrayLike, wavelength_m: ArrayLike, z_m: ArrayLike
+) -> np.ndarray:
     """Closed-form on-axis density of a uniformly illuminated circular aperture.
 
     Parameters
@@ -195,7 +217,7 @@ def uniform_circular_aperture_on_axis_w_m2(power_w, radius_m, wavelength_m, z_m)
     return 4.0 * p / (np.pi * a * a) * np.sin(0.5 * k * path) ** 2
 
 
-def aperture_power_density(rad, points_enu) -> np.ndarray:
+def aperture_power_density(rad: Radiator, points_enu: ArrayLike) -> np.ndarray:
     """Density of one dish at site-frame points, OET-65 aperture model with off-axis rule.
 
     Parameters
@@ -226,8 +248,7 @@ def aperture_power_density(rad, points_enu) -> np.ndarray:
     d = rad.diameter_m
     if not d or d <= 0:
         raise InputError(
-            f"antenna aperture diameter_m: {d!r}; the aperture model needs a positive dish "
-            "diameter"
+            f"antenna aperture diameter_m: {d!r}; the aperture model needs a positive dish diameter"
         )
     lam = rad.wavelength_m
     f = rad.reflection_factor
@@ -242,8 +263,11 @@ def aperture_power_density(rad, points_enu) -> np.ndarray:
     r_ff = float(far_field_onset_m(d, lam))
     with np.errstate(divide="ignore", invalid="ignore"):
         s_ax = f * np.where(xa <= r_nf, s_nf, s_nf * r_nf / xa)
-        s_pat = f * rad.power_w * np.asarray(rad.pattern.gain(phi, theta), dtype=float) / (
-            4.0 * np.pi * r * r
+        s_pat = (
+            f
+            * rad.power_w
+            * np.asarray(rad.pattern.gain(phi, theta), dtype=float)
+            / (4.0 * np.pi * r * r)
         )
     in_tube = (xa > 0.0) & (rho <= d)
     off = np.fmin(s_ax, np.fmax(OFF_AXIS_REDUCTION * s_ax, s_pat))

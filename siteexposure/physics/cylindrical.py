@@ -64,18 +64,32 @@ References
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
+from numpy.typing import ArrayLike
 
 from siteexposure.errors import InputError
 from siteexposure.physics.orientation import antenna_angles, to_antenna_frame
+
+if TYPE_CHECKING:
+    from collections.abc import Callable
+
+    from siteexposure.physics.pattern_base import GainPattern
+    from siteexposure.physics.radiator import Radiator
 
 _ELEV_STEP_DEG = 0.05
 _AZ_STEP_DEG = 0.1
 
 
 def cylindrical_power_density_w_m2(
-    power_w, rho_m, aperture_height_m, hpbw_h_deg=360.0, relative_gain=1.0, reflection_factor=1.0
-):
+    power_w: ArrayLike,
+    rho_m: ArrayLike,
+    aperture_height_m: ArrayLike,
+    hpbw_h_deg: ArrayLike = 360.0,
+    relative_gain: ArrayLike = 1.0,
+    reflection_factor: ArrayLike = 1.0,
+) -> np.ndarray:
     """OET-65 cylindrical near-field density ``S = F (180/theta_bw) P g_h / (pi rho h)``.
 
     Parameters
@@ -126,7 +140,9 @@ def cylindrical_power_density_w_m2(
         )
 
 
-def crossover_distance_m(peak_gain, aperture_height_m, hpbw_h_deg=360.0):
+def crossover_distance_m(
+    peak_gain: ArrayLike, aperture_height_m: ArrayLike, hpbw_h_deg: ArrayLike = 360.0
+) -> np.ndarray:
     """Distance where the cylindrical and far-field formulas agree, ``R_c = G theta_bw h / 720``.
 
     Parameters
@@ -161,7 +177,9 @@ def crossover_distance_m(peak_gain, aperture_height_m, hpbw_h_deg=360.0):
     )
 
 
-def power_consistent_beamwidth_deg(make_pattern, lo_deg: float = 0.3, hi_deg: float = 180.0):
+def power_consistent_beamwidth_deg(
+    make_pattern: Callable[[float], GainPattern], lo_deg: float = 0.3, hi_deg: float = 180.0
+) -> float | None:
     """Beamwidth at which a family of patterns radiates exactly the power put in.
 
     Parameters
@@ -189,7 +207,7 @@ def power_consistent_beamwidth_deg(make_pattern, lo_deg: float = 0.3, hi_deg: fl
 
     from siteexposure.physics.synthesis import directivity_ratio
 
-    def excess(bw):
+    def excess(bw: ArrayLike) -> np.ndarray:
         return directivity_ratio(make_pattern(bw)) - 1.0
 
     f_lo, f_hi = excess(lo_deg), excess(hi_deg)
@@ -198,14 +216,16 @@ def power_consistent_beamwidth_deg(make_pattern, lo_deg: float = 0.3, hi_deg: fl
     return float(brentq(excess, lo_deg, hi_deg, xtol=1e-4))
 
 
-def peak_elevation_rad(pattern) -> float:
+def peak_elevation_rad(pattern: GainPattern) -> float:
     """Elevation of the pattern maximum on the boresight vertical cut (phi = 0). [rad]"""
     theta = np.deg2rad(np.arange(-90.0, 90.0 + _ELEV_STEP_DEG / 2, _ELEV_STEP_DEG))
     g = np.asarray(pattern.gain(np.zeros_like(theta), theta), dtype=float)
     return float(theta[int(np.argmax(g))])
 
 
-def horizontal_cut(pattern, elevation_rad: float | None = None):
+def horizontal_cut(
+    pattern: GainPattern, elevation_rad: float | None = None
+) -> tuple[np.ndarray, np.ndarray]:
     """The pattern's horizontal cut at the elevation of its main beam.
 
     Returns
@@ -220,7 +240,7 @@ def horizontal_cut(pattern, elevation_rad: float | None = None):
     return phi, np.asarray(pattern.gain(phi, np.full_like(phi, el)), dtype=float)
 
 
-def horizontal_hpbw_deg(pattern, elevation_rad: float | None = None) -> float:
+def horizontal_hpbw_deg(pattern: GainPattern, elevation_rad: float | None = None) -> float:
     """Horizontal half-power beamwidth measured on the pattern's main-beam cut. [deg]
 
     The -3 dB points either side of boresight are found on a 0.1 deg grid and
@@ -235,7 +255,7 @@ def horizontal_hpbw_deg(pattern, elevation_rad: float | None = None) -> float:
         # never falls to half power (omni), or boresight is not in the beam: widest form
         return 360.0
 
-    def _edge(db):
+    def _edge(db: ArrayLike) -> np.ndarray:
         i = int(np.flatnonzero(db <= half)[0])
         a, b = db[i - 1], db[i]
         return (i - 1 + (a - half) / (a - b)) * _AZ_STEP_DEG
@@ -245,7 +265,9 @@ def horizontal_hpbw_deg(pattern, elevation_rad: float | None = None) -> float:
     return float(min(right + left, 360.0))
 
 
-def cylindrical_power_density(rad, points_enu, hpbw_h_deg: float | None = None) -> np.ndarray:
+def cylindrical_power_density(
+    rad: Radiator, points_enu: ArrayLike, hpbw_h_deg: float | None = None
+) -> np.ndarray:
     """Density of one line-source antenna at site-frame points, OET-65 cylindrical model.
 
     Parameters

@@ -35,10 +35,16 @@ References
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
+from numpy.typing import ArrayLike
 
 from siteexposure.constants import DBD_TO_DBI
 from siteexposure.physics.orientation import antenna_angles, to_antenna_frame
+
+if TYPE_CHECKING:
+    from siteexposure.physics.radiator import Radiator
 
 FREE_SPACE = 1.0  #: reflection factor F of free space [1]
 GROUND_REFLECTION_FACTOR = 2.56  #: OET-65 field-squared ground-reflection factor 1.6^2 [1]
@@ -46,7 +52,7 @@ PERFECT_REFLECTION_FACTOR = 4.0  #: field doubled by a perfect in-phase reflecti
 _DIPOLE_GAIN = 10.0 ** (DBD_TO_DBI / 10.0)
 
 
-def eirp_w(power_w, gain):
+def eirp_w(power_w: ArrayLike, gain: ArrayLike) -> np.ndarray:
     """Effective isotropic radiated power ``EIRP = P G``.
 
     Parameters
@@ -73,7 +79,7 @@ def eirp_w(power_w, gain):
     return np.asarray(power_w, dtype=float) * np.asarray(gain, dtype=float)
 
 
-def erp_w(power_w, gain):
+def erp_w(power_w: ArrayLike, gain: ArrayLike) -> np.ndarray:
     """Effective radiated power relative to a half-wave dipole, ``ERP = P G / 1.64``. [W]
 
     Notes
@@ -84,7 +90,9 @@ def erp_w(power_w, gain):
     return eirp_w(power_w, gain) / _DIPOLE_GAIN
 
 
-def far_field_power_density_w_m2(power_w, gain, r_m, reflection_factor=FREE_SPACE):
+def far_field_power_density_w_m2(
+    power_w: ArrayLike, gain: ArrayLike, r_m: ArrayLike, reflection_factor: ArrayLike = FREE_SPACE
+) -> np.ndarray:
     """Far-field power density ``S = P G F / (4 pi R^2)``.
 
     Parameters
@@ -128,7 +136,9 @@ def far_field_power_density_w_m2(power_w, gain, r_m, reflection_factor=FREE_SPAC
         )
 
 
-def far_field_distance_for_density_m(eirp, limit_w_m2, reflection_factor=FREE_SPACE):
+def far_field_distance_for_density_m(
+    eirp: ArrayLike, limit_w_m2: ArrayLike, reflection_factor: ArrayLike = FREE_SPACE
+) -> np.ndarray:
     """Distance at which the far-field density of an EIRP falls to ``limit_w_m2``.
 
     Parameters
@@ -156,7 +166,7 @@ def far_field_distance_for_density_m(eirp, limit_w_m2, reflection_factor=FREE_SP
     )
 
 
-def fraunhofer_distance_m(largest_dimension_m, wavelength_m):
+def fraunhofer_distance_m(largest_dimension_m: ArrayLike, wavelength_m: ArrayLike) -> np.ndarray:
     """Far-field (Fraunhofer) distance ``2 D^2 / lambda``. [m]
 
     References
@@ -168,7 +178,7 @@ def fraunhofer_distance_m(largest_dimension_m, wavelength_m):
     return 2.0 * d * d / np.asarray(wavelength_m, dtype=float)
 
 
-def far_field_boundary_m(largest_dimension_m, wavelength_m):
+def far_field_boundary_m(largest_dimension_m: ArrayLike, wavelength_m: ArrayLike) -> np.ndarray:
     """Distance beyond which the far-field formula is trusted: ``max(2D^2/lambda, 3 lambda, 5 D)``.
 
     Notes
@@ -183,7 +193,9 @@ def far_field_boundary_m(largest_dimension_m, wavelength_m):
     return np.maximum.reduce([fraunhofer_distance_m(d, lam), 3.0 * lam, 5.0 * d])
 
 
-def reactive_near_field_radius_m(largest_dimension_m, wavelength_m):
+def reactive_near_field_radius_m(
+    largest_dimension_m: ArrayLike, wavelength_m: ArrayLike
+) -> np.ndarray:
     """Outer edge of the reactive near field, ``max(lambda / (2 pi), 0.62 sqrt(D^3 / lambda))``.
 
     Parameters
@@ -215,7 +227,7 @@ def reactive_near_field_radius_m(largest_dimension_m, wavelength_m):
     return np.maximum(lam / (2.0 * np.pi), 0.62 * np.sqrt(d**3 / lam))
 
 
-def farfield_power_density(rad, points_enu) -> np.ndarray:
+def farfield_power_density(rad: Radiator, points_enu: ArrayLike) -> np.ndarray:
     """Pattern-aware far-field density of one antenna at site-frame points.
 
     Parameters

@@ -30,8 +30,10 @@ from __future__ import annotations
 
 import importlib.util
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from siteexposure.errors import InputError
 from siteexposure.physics.farfield import (
@@ -39,6 +41,9 @@ from siteexposure.physics.farfield import (
     farfield_power_density,
     reactive_near_field_radius_m,
 )
+
+if TYPE_CHECKING:
+    from siteexposure.physics.radiator import Radiator
 
 MODEL_IDS = {
     "far-field": "far-field-friis",
@@ -87,7 +92,7 @@ def _has(value) -> bool:
     return value is not None and float(value) > 0.0
 
 
-def choose_model(rad, requested: str = "auto") -> ModelChoice:
+def choose_model(rad: Radiator, requested: str = "auto") -> ModelChoice:
     """Pick the field model for one antenna.
 
     Parameters
@@ -110,32 +115,34 @@ def choose_model(rad, requested: str = "auto") -> ModelChoice:
     """
     word = str(requested).strip().lower()
     if word not in MODEL_WORDS:
-        raise InputError(
-            f"antenna model: {requested!r}; expected one of {', '.join(MODEL_WORDS)}"
-        )
+        raise InputError(f"antenna model: {requested!r}; expected one of {', '.join(MODEL_WORDS)}")
     dish = _has(rad.diameter_m)
     line = _has(rad.aperture_height_m)
     if word == "auto":
         if dish:
             return ModelChoice(
-                "aperture", MODEL_IDS["aperture"],
+                "aperture",
+                MODEL_IDS["aperture"],
                 f"auto: dish of diameter {rad.diameter_m:g} m -> OET-65 aperture model "
                 "(near-field, transition and far-field regions)",
             )
         if line and array_model_available():
             return ModelChoice(
-                "array", MODEL_IDS["array"],
+                "array",
+                MODEL_IDS["array"],
                 f"auto: line source of aperture height {rad.aperture_height_m:g} m -> array "
                 "synthesis (best agreement with the method-of-moments validation)",
             )
         if line:
             return ModelChoice(
-                "cylindrical", MODEL_IDS["cylindrical"],
+                "cylindrical",
+                MODEL_IDS["cylindrical"],
                 f"auto: line source of aperture height {rad.aperture_height_m:g} m -> OET-65 "
                 "cylindrical near-field model joined to the far field",
             )
         return ModelChoice(
-            "far-field", MODEL_IDS["far-field"],
+            "far-field",
+            MODEL_IDS["far-field"],
             "auto: no aperture size given -> far-field formula with the pattern gain "
             "(overstates the main beam in the near field)",
         )
@@ -156,7 +163,7 @@ def choose_model(rad, requested: str = "auto") -> ModelChoice:
     return ModelChoice(word, MODEL_IDS[word], f"requested: model = {word!r}")
 
 
-def reactive_radius_m(rad) -> float:
+def reactive_radius_m(rad: Radiator) -> float:
     """Reactive-near-field radius ``max(lambda/(2 pi), 0.62 sqrt(D^3/lambda))``. [m]
 
     ``D`` is the largest aperture dimension (0 when none is given, leaving lambda/2pi).
@@ -169,7 +176,9 @@ def reactive_radius_m(rad) -> float:
     return float(reactive_near_field_radius_m(rad.largest_dimension_m, rad.wavelength_m))
 
 
-def power_density(rad, choice: ModelChoice, points_enu) -> tuple[np.ndarray, np.ndarray]:
+def power_density(
+    rad: Radiator, choice: ModelChoice, points_enu: ArrayLike
+) -> tuple[np.ndarray, np.ndarray]:
     """Power density of one antenna at site-frame points with the chosen model.
 
     Parameters
@@ -233,8 +242,14 @@ def keep_out_directions_enu(azimuth_deg: float) -> dict[str, np.ndarray]:
     front = np.array([np.sin(a), np.cos(a), 0.0])
     left = np.array([-np.cos(a), np.sin(a), 0.0])
     up = np.array([0.0, 0.0, 1.0])
-    return {"front": front, "behind": -front, "left": left, "right": -left,
-            "above": up, "below": -up}
+    return {
+        "front": front,
+        "behind": -front,
+        "left": left,
+        "right": -left,
+        "above": up,
+        "below": -up,
+    }
 
 
 def _outermost_crossing(rad, choice, direction, limit, r0, r_max) -> float:
@@ -255,7 +270,7 @@ def _outermost_crossing(rad, choice, direction, limit, r0, r_max) -> float:
     return float(0.5 * (lo + hi))
 
 
-def keep_out_distances(rad, choice: ModelChoice, limit_w_m2: float) -> dict[str, float]:
+def keep_out_distances(rad: Radiator, choice: ModelChoice, limit_w_m2: float) -> dict[str, float]:
     """Compliance distances of one antenna along six worker-measured directions.
 
     Parameters
@@ -285,8 +300,9 @@ def keep_out_distances(rad, choice: ModelChoice, limit_w_m2: float) -> dict[str,
         raise InputError(f"power-density limit: {limit_w_m2!r}; expected a positive number")
     r0 = reactive_radius_m(rad)
     g_peak = 10.0 ** (float(rad.pattern.peak_gain_dbi) / 10.0)
-    r_far = float(far_field_distance_for_density_m(rad.power_w * g_peak, limit,
-                                                   rad.reflection_factor))
+    r_far = float(
+        far_field_distance_for_density_m(rad.power_w * g_peak, limit, rad.reflection_factor)
+    )
     r_max = max(1.5 * r_far + 2.0 * rad.largest_dimension_m, 4.0 * r0)
     dirs = keep_out_directions_enu(rad.azimuth_deg)
     return {

@@ -36,8 +36,9 @@ def test_boresight_distance_for_the_fcc_general_limit_above_1500_mhz():
     res = run_json("--freq", "1950", "--power-w", "80", "--gain-dbi", "17")
     assert res["limit_w_m2"] == pytest.approx(10.0)
     eirp = 80.0 * 10**1.7
-    assert res["distance_m"]["boresight"] == pytest.approx(math.sqrt(eirp / (4 * math.pi * 10.0)),
-                                                           rel=1e-9)
+    assert res["distance_m"]["boresight"] == pytest.approx(
+        math.sqrt(eirp / (4 * math.pi * 10.0)), rel=1e-9
+    )
     assert res["inputs"]["power_w"] == 80.0 and res["inputs"]["set"] == "fcc-1310"
     assert res["models"]["boresight"]["model_id"] == "far-field-friis"
     assert res["cautions"] and "not a measurement" in res["status"]
@@ -46,10 +47,12 @@ def test_boresight_distance_for_the_fcc_general_limit_above_1500_mhz():
 def test_occupational_limit_at_900_mhz_and_dbd_input():
     """47 CFR 1.1310 Table 1, 300-1500 MHz: occupational f/300 mW/cm^2 = 3 mW/cm^2 = 30 W/m^2
     at 900 MHz; dBi = dBd + 2.15 (common practice)."""
-    a = run_json("--freq", "900", "--power-w", "50", "--gain-dbd", "10",
-                 "--population", "occupational")
-    b = run_json("--freq", "900", "--power-w", "50", "--gain-dbi", "12.15",
-                 "--population", "occupational")
+    a = run_json(
+        "--freq", "900", "--power-w", "50", "--gain-dbd", "10", "--population", "occupational"
+    )
+    b = run_json(
+        "--freq", "900", "--power-w", "50", "--gain-dbi", "12.15", "--population", "occupational"
+    )
     assert a["limit_w_m2"] == pytest.approx(30.0)
     assert a["distance_m"]["boresight"] == pytest.approx(b["distance_m"]["boresight"], rel=2e-3)
 
@@ -57,8 +60,9 @@ def test_occupational_limit_at_900_mhz_and_dbd_input():
 def test_ground_reflection_factor_lengthens_the_distance_by_1_6():
     """OET-65 Ed. 97-01 eq. (6): 2.56 EIRP / (4 pi R^2) -> R grows by sqrt(2.56) = 1.6."""
     free = run_json("--freq", "1950", "--power-w", "80", "--gain-dbi", "17")
-    ground = run_json("--freq", "1950", "--power-w", "80", "--gain-dbi", "17",
-                      "--reflection-factor", "2.56")
+    ground = run_json(
+        "--freq", "1950", "--power-w", "80", "--gain-dbi", "17", "--reflection-factor", "2.56"
+    )
     ratio = ground["distance_m"]["boresight"] / free["distance_m"]["boresight"]
     assert ratio == pytest.approx(1.6, rel=1e-9)
 
@@ -66,16 +70,29 @@ def test_ground_reflection_factor_lengthens_the_distance_by_1_6():
 def test_cylindrical_near_field_distance_and_every_direction():
     """Inside the crossover the front distance solves the OET-65 sector formula
     S = (180/theta_BW) P / (pi R h) for R (Sec. 2; equation number from memory)."""
-    res = run_json("--freq", "1950", "--power-w", "80", "--gain-dbi", "17",
-                   "--aperture-height", "1.4", "--hpbw-h", "65", "--model", "cylindrical")
+    res = run_json(
+        "--freq",
+        "1950",
+        "--power-w",
+        "80",
+        "--gain-dbi",
+        "17",
+        "--aperture-height",
+        "1.4",
+        "--hpbw-h",
+        "65",
+        "--model",
+        "cylindrical",
+    )
     d = res["distance_m"]
     assert set(d) == {"boresight", "front", "behind", "left", "right", "above", "below"}
     expect = 180.0 / 65.0 * 80.0 / (math.pi * 1.4 * 10.0)
     assert d["front"] == pytest.approx(expect, rel=5e-3)  # HPBW measured on the 3GPP form
     assert d["front"] < d["boresight"]  # the far field overstates the near-field main beam
     assert res["models"]["directions"]["model_id"] == "oet65-cylindrical"
-    assert res["reactive_radius_m"] == pytest.approx(0.62 * math.sqrt(1.4**3 / (299.792458 / 1950)),
-                                                     rel=1e-6)
+    assert res["reactive_radius_m"] == pytest.approx(
+        0.62 * math.sqrt(1.4**3 / (299.792458 / 1950)), rel=1e-6
+    )
     assert res["pattern"]["model"] == "3gpp-panel"
 
 
@@ -87,16 +104,30 @@ def test_human_output_ends_with_the_safety_caution():
     assert "not a measurement" in tail and "licensed professional" in tail
 
 
-@pytest.mark.parametrize("args,needle", [
-    (("--freq", "1950", "--power-w", "-5", "--gain-dbi", "17"), "--power-w"),
-    (("--freq", "1950", "--power-w", "5", "--gain-dbi", "17", "--set", "no-such-set"), "no-such-set"),
-    (("--freq", "1e7", "--power-w", "5", "--gain-dbi", "17"), "outside"),
-    (("--freq", "1950", "--power-w", "5", "--gain-dbi", "17", "--gain-dbd", "3"), "exactly one"),
-    (("--freq", "1950", "--power-w", "5"), "exactly one"),
-    (("--freq", "1950", "--power-w", "5", "--gain-dbi", "17", "--population", "kids"), "population"),
-    (("--freq", "1950", "--power-w", "5", "--gain-dbi", "17", "--aperture-height", "0"),
-     "--aperture-height"),
-])
+@pytest.mark.parametrize(
+    "args,needle",
+    [
+        (("--freq", "1950", "--power-w", "-5", "--gain-dbi", "17"), "--power-w"),
+        (
+            ("--freq", "1950", "--power-w", "5", "--gain-dbi", "17", "--set", "no-such-set"),
+            "no-such-set",
+        ),
+        (("--freq", "1e7", "--power-w", "5", "--gain-dbi", "17"), "outside"),
+        (
+            ("--freq", "1950", "--power-w", "5", "--gain-dbi", "17", "--gain-dbd", "3"),
+            "exactly one",
+        ),
+        (("--freq", "1950", "--power-w", "5"), "exactly one"),
+        (
+            ("--freq", "1950", "--power-w", "5", "--gain-dbi", "17", "--population", "kids"),
+            "population",
+        ),
+        (
+            ("--freq", "1950", "--power-w", "5", "--gain-dbi", "17", "--aperture-height", "0"),
+            "--aperture-height",
+        ),
+    ],
+)
 def test_bad_input_is_one_error_line_and_exit_2(args, needle):
     out = run(*args)
     assert out.returncode == 2
@@ -107,8 +138,18 @@ def test_bad_input_is_one_error_line_and_exit_2(args, needle):
 
 @pytest.mark.slow
 def test_auto_uses_the_array_model_for_a_line_source_and_records_why():
-    res = run_json("--freq", "1950", "--power-w", "80", "--gain-dbi", "17",
-                   "--aperture-height", "1.4", "--hpbw-h", "65")
+    res = run_json(
+        "--freq",
+        "1950",
+        "--power-w",
+        "80",
+        "--gain-dbi",
+        "17",
+        "--aperture-height",
+        "1.4",
+        "--hpbw-h",
+        "65",
+    )
     assert res["models"]["directions"]["model_id"] == "array-synthesis"
     assert res["models"]["directions"]["reason"].startswith("auto")
     assert res["distance_m"]["front"] > res["reactive_radius_m"]

@@ -16,8 +16,9 @@ from siteexposure.physics.radiator import Radiator
 
 def _f699(gain_dbi, d_m):
     """Rec. ITU-R F.699-8 reference dish pattern (the package's ``parabolic`` model)."""
-    return parametric_pattern({"model": "parabolic", "gain_dbi": gain_dbi, "diameter_m": d_m},
-                              frequency_mhz=F_HZ / 1e6)
+    return parametric_pattern(
+        {"model": "parabolic", "gain_dbi": gain_dbi, "diameter_m": d_m}, frequency_mhz=F_HZ / 1e6
+    )
 
 
 F_HZ = 18e9
@@ -26,8 +27,9 @@ D = 1.8  # D/lambda = 108, inside the F.699 range D/lambda > 100
 
 
 def _dish(gain_dbi=48.0, power_w=1.0, d=D, **kw):
-    return Radiator(np.zeros(3), 0.0, 0.0, 0.0, F_HZ, power_w, _f699(gain_dbi, d),
-                    diameter_m=d, **kw)
+    return Radiator(
+        np.zeros(3), 0.0, 0.0, 0.0, F_HZ, power_w, _f699(gain_dbi, d), diameter_m=d, **kw
+    )
 
 
 def _axis(x):
@@ -42,7 +44,8 @@ def test_efficiency_and_region_bounds():
     assert ap.aperture_efficiency(g, D, LAM) == pytest.approx(0.55, rel=1e-12)
     assert ap.far_field_onset_m(D, LAM) / ap.near_field_extent_m(D, LAM) == pytest.approx(2.4)
     assert ap.near_field_power_density_w_m2(10.0, 1.0, D) == pytest.approx(
-        4 * 10.0 / (np.pi * (D / 2) ** 2))
+        4 * 10.0 / (np.pi * (D / 2) ** 2)
+    )
 
 
 def test_on_axis_regions_constant_then_1_over_r_then_1_over_r2():
@@ -61,8 +64,9 @@ def test_transition_meets_far_field_within_0_12_db():
     -0.12 dB, whatever the gain (OET-65 Ed. 97-01 aperture formulas)."""
     for g_dbi in (30.0, 38.0, 45.0):
         r_ff = ap.far_field_onset_m(D, LAM)
-        below, above = ap.on_axis_power_density_w_m2(1.0, 10 ** (g_dbi / 10), D, LAM,
-                                                     [r_ff * (1 - 1e-12), r_ff])
+        below, above = ap.on_axis_power_density_w_m2(
+            1.0, 10 ** (g_dbi / 10), D, LAM, [r_ff * (1 - 1e-12), r_ff]
+        )
         assert below / above == pytest.approx(16 * 1.44 / (2.4 * np.pi**2), rel=1e-9)
 
 
@@ -72,13 +76,13 @@ def test_dish_model_on_axis_matches_the_formula_and_off_axis_is_reduced():
     g = 10**4.8
     s = ap.aperture_power_density(rad, _axis([0.5 * r_nf, 1.5 * r_nf]))
     np.testing.assert_allclose(
-        s, ap.on_axis_power_density_w_m2(5.0, g, D, LAM, [0.5 * r_nf, 1.5 * r_nf]), rtol=1e-12)
+        s, ap.on_axis_power_density_w_m2(5.0, g, D, LAM, [0.5 * r_nf, 1.5 * r_nf]), rtol=1e-12
+    )
     on = s[0]
     # inside one diameter of the axis: the on-axis value; beyond: at least 20 dB less...
     tube = ap.aperture_power_density(rad, np.array([[0.9 * D, 0.5 * r_nf, 0.0]]))[0]
     assert tube == on
-    off = ap.aperture_power_density(rad, np.array([[2 * D, 0.5 * r_nf, 0.0],
-                                                   [0.0, -0.5, 0.0]]))
+    off = ap.aperture_power_density(rad, np.array([[2 * D, 0.5 * r_nf, 0.0], [0.0, -0.5, 0.0]]))
     assert np.all(off <= on)
     # ... but never below 1 % of it (the OET-65 off-axis statement, from memory)
     np.testing.assert_allclose(off[0], ap.OFF_AXIS_REDUCTION * on, rtol=1e-12)
@@ -103,10 +107,12 @@ def test_closed_form_peak_and_far_limit():
     assert s.max() == pytest.approx(4 / (np.pi * a * a), rel=1e-6)
     z_last = (a * a - LAM**2 / 4) / LAM
     assert ap.uniform_circular_aperture_on_axis_w_m2(1.0, a, LAM, z_last) == pytest.approx(
-        4 / (np.pi * a * a), rel=1e-12)
+        4 / (np.pi * a * a), rel=1e-12
+    )
     far = 1e4 * D**2 / LAM
     assert ap.uniform_circular_aperture_on_axis_w_m2(1.0, a, LAM, far) == pytest.approx(
-        (np.pi * D / LAM) ** 2 / (4 * np.pi * far**2), rel=1e-6)
+        (np.pi * D / LAM) ** 2 / (4 * np.pi * far**2), rel=1e-6
+    )
 
 
 def test_missing_diameter_raises():

@@ -16,8 +16,15 @@ from siteexposure.physics.radiator import Radiator
 
 def _panel(hpbw_h=65.0, front_to_back_db=30.0):
     """3GPP TR 38.901 Table 7.3-1 form with whole-panel parameters (the package's model)."""
-    return parametric_pattern({"model": "3gpp-panel", "gain_dbi": 17.0, "hpbw_h_deg": hpbw_h,
-                               "hpbw_v_deg": 7.0, "front_to_back_db": front_to_back_db})
+    return parametric_pattern(
+        {
+            "model": "3gpp-panel",
+            "gain_dbi": 17.0,
+            "hpbw_h_deg": hpbw_h,
+            "hpbw_v_deg": 7.0,
+            "front_to_back_db": front_to_back_db,
+        }
+    )
 
 
 def _omni(gain_dbi=10.0):
@@ -31,8 +38,18 @@ F_HZ = 1950e6
 
 def _rad(pattern=None, power_w=80.0, h=H, **kw):
     kw.setdefault("reflection_factor", 1.0)
-    return Radiator(np.zeros(3), 0.0, 0.0, 0.0, F_HZ, power_w, pattern or _panel(),
-                    aperture_height_m=h, aperture_width_m=0.3, **kw)
+    return Radiator(
+        np.zeros(3),
+        0.0,
+        0.0,
+        0.0,
+        F_HZ,
+        power_w,
+        pattern or _panel(),
+        aperture_height_m=h,
+        aperture_width_m=0.3,
+        **kw,
+    )
 
 
 def _boresight(rho, z=0.0):
@@ -54,7 +71,8 @@ def test_crossover_is_where_the_two_formulas_agree():
     g, bw = 10**1.7, 65.0
     r_c = cyl.crossover_distance_m(g, H, bw)
     assert cyl.cylindrical_power_density_w_m2(1.0, r_c, H, bw) == pytest.approx(
-        far_field_power_density_w_m2(1.0, g, r_c), rel=1e-12)
+        far_field_power_density_w_m2(1.0, g, r_c), rel=1e-12
+    )
     assert cyl.crossover_distance_m(10.0, 2.0) == pytest.approx(10.0)  # omni: G h / 2
 
 
@@ -92,8 +110,9 @@ def test_near_field_falls_as_one_over_r_then_joins_the_far_field():
     s = cyl.cylindrical_power_density(rad, _boresight([2 * r_c, 4 * r_c]))
     assert s[0] / s[1] == pytest.approx(4.0, rel=1e-9)
     # continuous at the crossover and never above either formula on the main beam
-    s_in, s_out = cyl.cylindrical_power_density(rad, _boresight([r_c * (1 - 1e-9),
-                                                                 r_c * (1 + 1e-9)]))
+    s_in, s_out = cyl.cylindrical_power_density(
+        rad, _boresight([r_c * (1 - 1e-9), r_c * (1 + 1e-9)])
+    )
     assert s_in == pytest.approx(s_out, rel=1e-6)
     rho = np.geomspace(0.5, 10 * r_c, 50)
     s = cyl.cylindrical_power_density(rad, _boresight(rho))

@@ -21,8 +21,9 @@ def _cin(x: float) -> float:
 
 def _panel(gain_dbi=17.0):
     """3GPP TR 38.901 Table 7.3-1 form with whole-panel parameters (the package's model)."""
-    return parametric_pattern({"model": "3gpp-panel", "gain_dbi": gain_dbi, "hpbw_h_deg": 65.0,
-                               "hpbw_v_deg": 7.0})
+    return parametric_pattern(
+        {"model": "3gpp-panel", "gain_dbi": gain_dbi, "hpbw_h_deg": 65.0, "hpbw_v_deg": 7.0}
+    )
 
 
 def _rad(pattern, power_w=50.0, azimuth=0.0, tilt=0.0, f_hz=900e6, pos=(1.0, 2.0, 30.0), **kw):
@@ -31,7 +32,7 @@ def _rad(pattern, power_w=50.0, azimuth=0.0, tilt=0.0, f_hz=900e6, pos=(1.0, 2.0
 
 def test_eirp_and_erp_follow_the_dipole_reference():
     """EIRP = P G; ERP = EIRP / 1.64, i.e. 2.15 dB lower (dBi = dBd + 2.15, common practice)."""
-    eirp = ff.eirp_w(20.0, 10.0 ** 1.5)
+    eirp = ff.eirp_w(20.0, 10.0**1.5)
     assert eirp == pytest.approx(20.0 * 10.0**1.5)
     assert 10.0 * np.log10(eirp / ff.erp_w(20.0, 10.0**1.5)) == pytest.approx(2.15, abs=0.005)
 
@@ -107,14 +108,19 @@ def test_peak_follows_azimuth_and_mechanical_tilt():
     assert north < 1e-2 * s.max()
 
 
-_unit = st.tuples(
-    st.floats(-1, 1), st.floats(-1, 1), st.floats(-1, 1)
-).filter(lambda v: 0.1 < np.linalg.norm(v))
+_unit = st.tuples(st.floats(-1, 1), st.floats(-1, 1), st.floats(-1, 1)).filter(
+    lambda v: 0.1 < np.linalg.norm(v)
+)
 
 
 @settings(max_examples=60, deadline=None)
-@given(direction=_unit, r=st.floats(1.0, 1e3), k=st.floats(1.1, 20.0),
-       az=st.floats(0, 360), tilt=st.floats(-20, 20))
+@given(
+    direction=_unit,
+    r=st.floats(1.0, 1e3),
+    k=st.floats(1.1, 20.0),
+    az=st.floats(0, 360),
+    tilt=st.floats(-20, 20),
+)
 def test_inverse_square_along_any_ray(direction, r, k, az, tilt):
     """S(k r) = S(r) / k^2 along a ray from the radiation centre (far-field law)."""
     rad = _rad(_panel(), azimuth=az, tilt=tilt)
@@ -143,6 +149,7 @@ def test_rotating_antenna_and_points_together_changes_nothing(turn, seed):
     t = np.deg2rad(turn)  # clockwise seen from above
     rot = np.array([[np.cos(t), np.sin(t), 0.0], [-np.sin(t), np.cos(t), 0.0], [0.0, 0.0, 1.0]])
     np.testing.assert_allclose(
-        ff.farfield_power_density(rad1, pts @ rot.T), ff.farfield_power_density(rad0, pts),
+        ff.farfield_power_density(rad1, pts @ rot.T),
+        ff.farfield_power_density(rad0, pts),
         rtol=1e-9,
     )

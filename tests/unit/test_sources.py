@@ -19,8 +19,9 @@ from siteexposure.physics.radiator import Radiator
 
 def _panel():
     """3GPP TR 38.901 Table 7.3-1 form with whole-panel parameters (the package's model)."""
-    return parametric_pattern({"model": "3gpp-panel", "gain_dbi": 17.0, "hpbw_h_deg": 65.0,
-                               "hpbw_v_deg": 7.0})
+    return parametric_pattern(
+        {"model": "3gpp-panel", "gain_dbi": 17.0, "hpbw_h_deg": 65.0, "hpbw_v_deg": 7.0}
+    )
 
 
 def _db(pattern, phi_deg, el_deg):
@@ -32,8 +33,7 @@ LAM = C0 / F_HZ
 
 
 def _rad(power_w=80.0, azimuth=30.0, tilt=0.0, **kw):
-    return Radiator(np.array([5.0, -3.0, 20.0]), azimuth, tilt, 0.0, F_HZ, power_w, _panel(),
-                    **kw)
+    return Radiator(np.array([5.0, -3.0, 20.0]), azimuth, tilt, 0.0, F_HZ, power_w, _panel(), **kw)
 
 
 def test_auto_choice_per_antenna_type(monkeypatch):
@@ -71,15 +71,21 @@ def test_reactive_radius_uses_the_largest_dimension():
     assert r == pytest.approx(0.62 * np.sqrt(1.4**3 / LAM))
 
 
-@pytest.mark.parametrize("kw,word", [({}, "far-field"),
-                                     ({"aperture_height_m": 1.4}, "cylindrical"),
-                                     ({"diameter_m": 0.6}, "aperture")])
+@pytest.mark.parametrize(
+    "kw,word",
+    [
+        ({}, "far-field"),
+        ({"aperture_height_m": 1.4}, "cylindrical"),
+        ({"diameter_m": 0.6}, "aperture"),
+    ],
+)
 def test_density_masks_the_reactive_near_field_and_is_fast(kw, word):
     rad = _rad(**kw)
     choice = sources.choose_model(rad, word)
     r0 = sources.reactive_radius_m(rad)
-    pts = rad.position_m + np.array([[0.5 * r0, 0.0, 0.0], [0.0, 1.01 * r0, 0.0],
-                                     [0.0, 0.0, -3.0 * r0]])
+    pts = rad.position_m + np.array(
+        [[0.5 * r0, 0.0, 0.0], [0.0, 1.01 * r0, 0.0], [0.0, 0.0, -3.0 * r0]]
+    )
     s, ok = power_density_checked(rad, choice, pts)
     assert ok.tolist() == [False, True, True]
     assert np.isnan(s[0]) and np.all(np.isfinite(s[1:])) and np.all(s[1:] > 0)
@@ -102,9 +108,14 @@ def test_far_field_keep_out_matches_the_closed_form_in_every_direction():
     pat = rad.pattern
     limit = 1.0
     ko = sources.keep_out_distances(rad, sources.choose_model(rad, "far-field"), limit)
-    gains_db = {"front": _db(pat, 0.0, 0.0), "behind": _db(pat, 180.0, 0.0),
-                "left": _db(pat, -90.0, 0.0), "right": _db(pat, 90.0, 0.0),
-                "above": _db(pat, 0.0, 90.0), "below": _db(pat, 0.0, -90.0)}
+    gains_db = {
+        "front": _db(pat, 0.0, 0.0),
+        "behind": _db(pat, 180.0, 0.0),
+        "left": _db(pat, -90.0, 0.0),
+        "right": _db(pat, 90.0, 0.0),
+        "above": _db(pat, 0.0, 90.0),
+        "below": _db(pat, 0.0, -90.0),
+    }
     for name, g_db in gains_db.items():
         expect = np.sqrt(80.0 * 10 ** (g_db / 10) * 2.56 / (4 * np.pi * limit))
         assert ko[name] == pytest.approx(expect, rel=1e-6), name
@@ -145,8 +156,11 @@ def test_directions_follow_the_azimuth():
 
 
 @settings(max_examples=15, deadline=None)
-@given(p=st.floats(1.0, 500.0), k=st.floats(1.0, 10.0),
-       model=st.sampled_from(["far-field", "cylindrical", "aperture"]))
+@given(
+    p=st.floats(1.0, 500.0),
+    k=st.floats(1.0, 10.0),
+    model=st.sampled_from(["far-field", "cylindrical", "aperture"]),
+)
 def test_more_power_never_shrinks_a_keep_out_distance(p, k, model):
     kw = {"aperture_height_m": 1.4} if model == "cylindrical" else {}
     kw = {"diameter_m": 0.6} if model == "aperture" else kw

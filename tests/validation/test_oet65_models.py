@@ -40,6 +40,7 @@ G_UNIFORM = (np.pi * D / LAM) ** 2  # eta = 1
 def _rs_quadrature(z: float) -> complex:
     """On-axis field / E0 of a uniform circular aperture, Rayleigh-Sommerfeld I, by quadrature:
     U(z)/U0 = integral_0^a z (1 + jkr) exp(-jkr) / r^3 rho d rho, r = sqrt(z^2 + rho^2)."""
+
     def f(rho, part):
         r = np.hypot(z, rho)
         v = z * (1 + 1j * K * r) * np.exp(-1j * K * r) / r**3 * rho
@@ -91,8 +92,9 @@ def test_far_field_formula_at_the_fraunhofer_distance():
     (measured -0.056 dB)."""
     z = fraunhofer_distance_m(D, LAM)
     closed = ap.uniform_circular_aperture_on_axis_w_m2(1.0, A, LAM, z)
-    assert 10 * np.log10(closed / (G_UNIFORM / (4 * np.pi * z * z))) == pytest.approx(-0.056,
-                                                                                        abs=0.005)
+    assert 10 * np.log10(closed / (G_UNIFORM / (4 * np.pi * z * z))) == pytest.approx(
+        -0.056, abs=0.005
+    )
 
 
 class UniformDish:
@@ -164,8 +166,9 @@ def test_column_radiates_the_input_power_with_gain_n():
     g = ColumnPattern().gain(0 * u, np.arcsin(u))
     assert 0.5 * np.sum(g) * (2.0 / len(u)) == pytest.approx(1.0, rel=1e-9)
     r = 4 * H_L**2 / LAM_L  # far out the summed density meets P N / (4 pi R^2): measured -0.34 %
-    assert _column_density(r, np.array([0.0]))[0] == pytest.approx(N_EL / (4 * np.pi * r * r),
-                                                                   rel=5e-3)
+    assert _column_density(r, np.array([0.0]))[0] == pytest.approx(
+        N_EL / (4 * np.pi * r * r), rel=5e-3
+    )
 
 
 def test_cylindrical_formula_against_the_height_averaged_column():
@@ -186,8 +189,9 @@ def test_joined_cylindrical_model_bounds_the_column_average_everywhere_beside_it
     below the height-averaged column and at most 1.1 dB above it from lambda to 4 h^2/lambda
     (measured +0.04 dB at lambda, +0.99 dB near the crossover where both formulas overstate,
     +0.09 dB at 4 h^2/lambda)."""
-    rad = Radiator(np.zeros(3), 0.0, 0.0, 0.0, C0 / LAM_L, 1.0, ColumnPattern(),
-                   aperture_height_m=H_L)
+    rad = Radiator(
+        np.zeros(3), 0.0, 0.0, 0.0, C0 / LAM_L, 1.0, ColumnPattern(), aperture_height_m=H_L
+    )
     z = np.linspace(-H_L / 2, H_L / 2, 401)
     excess = []
     for rho in np.geomspace(LAM_L, 4 * H_L**2 / LAM_L, 25):
