@@ -39,6 +39,9 @@ DEFAULT_SYNTHESIS_METHOD = "additive"
 #: boresight and back directions shared by the horizontal and the vertical cuts). [dB]
 CROSSING_TOLERANCE_DB = 1.0
 
+#: Angles of one cut closer than this count as the same angle. [deg]
+MIN_STEP_DEG = 1e-6
+
 #: Largest allowed difference between a stated peak gain and the maximum of the data. [dB]
 PEAK_TOLERANCE_DB = 0.5
 
@@ -61,9 +64,10 @@ def _as_cut(angle_deg, gain_dbi, label: str, where: str) -> tuple[np.ndarray, np
         raise PatternError(f"{where}: {label} cut holds NaN or infinite values; expected numbers")
     order = np.argsort(a, kind="stable")
     a, g = a[order], g[order]
-    if np.any(np.diff(a) == 0.0):
-        dup = a[1:][np.diff(a) == 0.0][0]
-        raise PatternError(f"{where}: {label} cut has angle {dup:g} deg twice; expected unique angles")
+    if np.any(np.diff(a) < MIN_STEP_DEG):
+        dup = a[1:][np.diff(a) < MIN_STEP_DEG][0]
+        raise PatternError(f"{where}: {label} cut has angle {dup:g} deg twice (or two angles "
+                           f"closer than {MIN_STEP_DEG:g} deg); expected unique angles")
     return a, g
 
 
@@ -170,8 +174,10 @@ class _Lerp:
         self.x0 = float(xp[0])
         self.slope = np.diff(fp) / np.diff(xp)
         span = float(xp[-1] - xp[0])
-        n_b = int(np.ceil(span / float(np.min(np.diff(xp))))) + 1
-        self.fast = n_b <= self._MAX_BUCKETS
+        with np.errstate(over="ignore", divide="ignore"):
+            ratio = span / float(np.min(np.diff(xp)))
+        self.fast = bool(np.isfinite(ratio)) and ratio < self._MAX_BUCKETS
+        n_b = int(np.ceil(ratio)) + 1 if self.fast else 0
         if self.fast:
             self.n_b = n_b
             self.inv_w = n_b / span
