@@ -37,6 +37,9 @@ def atomic_path(target: Path | str) -> Iterator[Path]:
     fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent)
     os.close(fd)
     tmp = Path(tmp_name)
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(tmp, 0o666 & ~umask)  # mkstemp creates 0600; give the file the usual mode
     try:
         yield tmp
         os.replace(tmp, target)

@@ -16,11 +16,11 @@ def point(
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object to stdout."),
 ) -> None:
     """Power density of every antenna and the exposure ratios at one point."""
+    import math
+
     from siteexposure.engine.orchestrator import evaluate_point
     from siteexposure.errors import InputError
     from siteexposure.readers.site_toml import read_site
-
-    import math
 
     if not all(math.isfinite(v) for v in at):
         raise InputError(f"--at: value {list(at)} is not finite; expected three numbers E N Z in metres")

@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from siteexposure.containers import Antenna, Area, Receptor, Site
+from siteexposure.containers import Antenna, Area, Site
 
 POPULATIONS = ("general", "occupational")
 Key = tuple[str, str]  #: (limit-set id, population)
