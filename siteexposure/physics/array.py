@@ -75,8 +75,9 @@ MAX_SPACING_WL = 0.5  #: spacing never exceeds this (no grating lobes), in wavel
 SOFT_MAX_SUB_SOURCES = 48  #: above this the spacing grows towards lambda/2 [1]
 FIT_FLOOR_DB = 30.0  #: the taper fit looks at the vertical cut down to peak - 30 dB [dB]
 _AZ_STEP_DEG = 1.0
+CORRECTION_MAX_DB = 3.0  #: largest far-field correction of the taper fit's residual [dB]
 ENVELOPE_DEG = 5.0  #: half-width of the cut envelopes of the element factor [deg]
-_FIT_STEP_DEG = 0.25
+_FIT_STEP_DEG = 0.5
 _CHUNK_ELEMENTS = 1_500_000  # (n_sub x n_point) block size of the near-field sum
 
 
@@ -91,6 +92,18 @@ def reactive_radius_m(wavelength_m: float, largest_dimension_m: float) -> float:
     lam = float(wavelength_m)
     d = float(largest_dimension_m)
     return max(lam / (2.0 * np.pi), 0.62 * np.sqrt(d**3 / lam) if d > 0 else 0.0)
+
+
+def far_field_range_m(wavelength_m: float, largest_dimension_m: float) -> float:
+    """Start of the far field ``max(2 L^2/lambda, 3 lambda, 5 L)``. [m]
+
+    References
+    ----------
+    Balanis, Antenna Theory, 4th ed., sec. 2.2.4 (2 D^2/lambda); the 3 lambda and 5 L
+    minimums are common practice for small antennas.
+    """
+    lam, big = float(wavelength_m), float(largest_dimension_m)
+    return max(2.0 * big**2 / lam, 3.0 * lam, 5.0 * big)
 
 
 def n_sub_sources(height_m: float, wavelength_m: float) -> int:
@@ -152,7 +165,7 @@ def _element_table(pattern) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     the 3GPP TR 38.901 (Table 7.3-1) additive combination written relative to the front
     cut: exact on the horizontal cut and on the front cut, and on the back cut to within
     the envelope; 0 dB for an omnidirectional antenna. ``g_v`` is the front cut at ``el``
-    (0.25 deg steps) [rad], [1].
+    (0.5 deg steps) [rad], [1].
     """
     phi = np.deg2rad(np.arange(0.0, 360.0, _AZ_STEP_DEG))
     el_t = np.deg2rad(np.arange(-90.0, 90.5, 1.0))
@@ -223,7 +236,8 @@ def _fit_taper(z_m, k, el, g_v, tilt_rad) -> tuple[np.ndarray, float]:
     lo = np.concatenate([np.zeros(half), [-np.inf]])
     hi = np.full(half + 1, np.inf)
     sol = least_squares(fun, x0, jac=jac, bounds=(lo, hi), method="trf", x_scale="jac",
-                        max_nfev=200)
+                        tr_solver="lsmr",
+                        max_nfev=80)
     a = m @ sol.x[:half]
     kk = 10.0 ** sol.x[half]
     if not np.any(a > 0):
@@ -249,6 +263,11 @@ class ArraySynthesis:
         Complex current moments ``I l`` (peak phasors), scaled to the radiated power. [A m]
     element_table : ndarray, shape (360, 181)
         Element power factor ``e(phi, el)`` on a 1 deg grid, phi 0..359, el -90..90. [1]
+    vertical_correction : ndarray, shape (181,)
+        Far-field correction ``C(el)`` of the taper fit's residual on the front cut (within
+        +-:data:`CORRECTION_MAX_DB`), el -90..90 in 1 deg steps. [1]
+    far_field_range_m : float
+        ``max(2 L^2/lambda, 3 lambda, 5 L)``; ``C`` is phased in as ``(r/R_ff)^2`` up to it. [m]
     reflection_factor : float
         Field-squared factor applied to the density. [1]
     reactive_radius_m : float
@@ -270,6 +289,8 @@ class ArraySynthesis:
     z_m: np.ndarray
     moments: np.ndarray
     element_table: np.ndarray
+    vertical_correction: np.ndarray
+    far_field_range_m: float
     reflection_factor: float
     reactive_radius_m: float
     column_clearance_m: float
@@ -315,14 +336,21 @@ class ArraySynthesis:
         pattern = rad.pattern
         table, el, g_v = _element_table(pattern)
         tilt_data = float(getattr(pattern, "electrical_tilt_deg", 0.0) or 0.0)
-        table_like = hasattr(pattern, "vertical_cut")
-        tilt = tilt_data if table_like else float(rad.electrical_tilt_deg)
+        # a table pattern carries its own tilt; a parametric one is built with the radiator's
+        tilt = tilt_data if hasattr(pattern, "h_angle_deg") else float(rad.electrical_tilt_deg)
         amp, kk = _fit_taper(z, k, el, g_v, np.deg2rad(tilt_data))
+        corr = np.ones(181)
+        if abs(tilt - tilt_data) < 1e-9:  # fit residual on the front cut, 1 deg steps
+            el1 = np.deg2rad(np.arange(-90.0, 90.5, 1.0))
+            af = np.exp(1j * k * np.outer(np.sin(el1) + np.sin(np.deg2rad(tilt_data)), z)) @ amp
+            fit_db = _db(kk * np.cos(el1) ** 2 * np.abs(af) ** 2)
+            res = np.interp(el1, el, _db(g_v)) - np.maximum(fit_db, _db(g_v).max() - FIT_FLOOR_DB)
+            corr = 10.0 ** (np.clip(res, -CORRECTION_MAX_DB, CORRECTION_MAX_DB) / 10.0)
         # unit moments: far-field gain 4 pi U / (1 W) = K cos^2 |AF_A|^2
         const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
         unit = amp * np.sqrt(kk / (4.0 * np.pi * const))
         unit = unit * np.exp(1j * k * z * np.sin(np.deg2rad(tilt)))
-        p_unit, u_peak = _radiated_power(unit, z, k, table)
+        p_unit, u_peak = _radiated_power(unit, z, k, table * corr[None, :])
         scale = np.sqrt(rad.power_w / p_unit) if rad.power_w > 0 else 0.0
         return cls(
             position_m=np.asarray(rad.position_m, dtype=float).reshape(3),
@@ -332,6 +360,8 @@ class ArraySynthesis:
             z_m=z,
             moments=unit * scale,
             element_table=table,
+            vertical_correction=corr,
+            far_field_range_m=far_field_range_m(lam, rad.largest_dimension_m or h),
             reflection_factor=float(rad.reflection_factor),
             reactive_radius_m=reactive_radius_m(lam, rad.largest_dimension_m),
             column_clearance_m=lam / (2.0 * np.pi),
@@ -345,6 +375,13 @@ class ArraySynthesis:
         """Element power factor e(phi, el), bilinear on its 1 deg grid (radians). [1]"""
         return _lookup(self.element_table, phi, theta)
 
+    def _correction(self, theta, r) -> np.ndarray:
+        """``C(el)^beta`` with ``beta = min(1, (r / R_ff)^2)``. [1]"""
+        el = np.clip(np.rad2deg(np.asarray(theta, dtype=float)), -90.0, 90.0) + 90.0
+        c = np.interp(el, np.arange(181.0), self.vertical_correction)
+        beta = np.minimum(1.0, (np.asarray(r, dtype=float) / self.far_field_range_m) ** 2)
+        return c**beta
+
     def far_field_gain(self, phi, theta) -> np.ndarray:
         """Power gain of the model's own far field at pattern angles (radians). [1]"""
         phi, theta = np.broadcast_arrays(np.asarray(phi, float), np.asarray(theta, float))
@@ -354,6 +391,7 @@ class ArraySynthesis:
         af = np.exp(1j * k * np.multiply.outer(np.sin(theta), self.z_m)) @ self.moments
         const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
         u = const * np.abs(af * np.cos(theta)) ** 2 * self._element(phi, theta)
+        u = u * self._correction(theta, np.inf)
         return 4.0 * np.pi * u / self.power_w
 
     def power_density(self, points_enu) -> tuple[np.ndarray, np.ndarray]:
@@ -379,7 +417,7 @@ class ArraySynthesis:
             E_r = eta p_n c / (2 pi R^2) (1 + 1/(j k R)) exp(-j k R)
             E_t = j eta k p_n s / (4 pi R) (1 + 1/(j k R) - 1/(k R)^2) exp(-j k R)
             E_rho = sum_n (E_r s + E_t c),   E_z = sum_n (E_r c - E_t s)
-            S = F e(phi, el) (|E_rho|^2 + |E_z|^2) / (2 eta)
+            S = F e(phi, el) C(el)^beta(r) (|E_rho|^2 + |E_z|^2) / (2 eta)
 
         ``phi``, ``el`` are the pattern angles of the point seen from the radiation centre
         (the element factor is common to all elements of the column).
@@ -398,7 +436,8 @@ class ArraySynthesis:
         step = max(1, _CHUNK_ELEMENTS // self.z_m.size)
         for i0 in range(0, idx.size, step):
             sel = idx[i0 : i0 + step]
-            s[sel] = self._density(rho[sel], za[sel]) * self._element(phi[sel], theta[sel])
+            e = self._element(phi[sel], theta[sel]) * self._correction(theta[sel], r[sel])
+            s[sel] = self._density(rho[sel], za[sel]) * e
         return s.reshape(shape) * self.reflection_factor, ok.reshape(shape)
 
     def _density(self, rho, za) -> np.ndarray:
