@@ -1,1 +1,48 @@
-"""The `demo` command (being written)."""
+"""``siteexposure demo [--out DIR]``: the bundled sample site, end to end.
+
+Reads the invented sample site ``office_roof.toml`` shipped with the package, prints the
+screening summary, writes the maps, the GIS files and the PDF report into ``DIR``
+(default ``./demo_output``) and prints where they are. Exit status 0 once the files are
+written, whatever the verdict.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import typer
+
+from siteexposure.cli.app import app
+
+DEMO_SITE = "office_roof.toml"
+DEMO_REPORT = "office_roof_report.pdf"
+
+
+@app.command("demo")
+def demo(
+    out: Path = typer.Option(Path("demo_output"), "--out", help="Folder for the demo files."),
+    no_progress: bool = typer.Option(False, "--no-progress", help="No progress bar on stderr."),
+) -> None:
+    """Run the bundled invented sample site end to end: summary, maps, GIS files, PDF."""
+    from rich.console import Console
+
+    from siteexposure import resources
+    from siteexposure.atomic import check_writable_dir
+    from siteexposure.cli.report_cmd import build_report
+    from siteexposure.engine.orchestrator import evaluate_site
+    from siteexposure.readers.site_toml import read_site
+    from siteexposure.writers.summary import print_site
+
+    console = Console()
+    site_path = resources.sample_sites_dir() / DEMO_SITE
+    check_writable_dir(out)
+    site = read_site(site_path)
+    console.print(f"Demo: the invented sample site {site_path}")
+    res = evaluate_site(site, progress=not no_progress)
+    print_site(res, console)
+    written = build_report(res, out / DEMO_REPORT, with_maps=True)
+    console.print()
+    console.print(f"[bold]Demo files in {out.resolve()}[/bold]")
+    for p in written:
+        console.print(f"  {p}")
+    console.print(f"Open the report: {(out / DEMO_REPORT).resolve()}")

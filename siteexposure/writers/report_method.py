@@ -1,0 +1,148 @@
+"""The method-and-assumptions section of the PDF report.
+
+It states, for the reviewer, which field model ran for each antenna and how well each
+model agrees with the method-of-moments validation (:mod:`siteexposure.writers.accuracy`),
+how the grid is spatially averaged, the reflection and activity factors, how exposure
+ratios from several transmitters are summed, and the limit tables with their citations.
+"""
+
+from __future__ import annotations
+
+from siteexposure.writers import accuracy
+from siteexposure.writers.json_out import _num as json_round
+from siteexposure.writers.report_context import ReportContext
+from siteexposure.writers.report_layout import bullets, jnum, para, table
+from siteexposure.writers.report_sections import heading
+
+#: our own one-paragraph description of each field model, with its published basis
+MODEL_TEXT = {
+    "far-field-friis": (
+        "Far-field formula: S = P·G(direction)·F / (4πr²), with the pattern gain toward the "
+        "point. Exact in the far field; closer in, on the main beam, it overstates the density "
+        "because the gain has not yet formed. Basis: FCC OET Bulletin 65, Ed. 97-01 (1997), "
+        "Section 2; the Friis transmission relation (Balanis, Antenna Theory, Sec. 2.17)."
+    ),
+    "oet65-cylindrical": (
+        "Cylindrical near-field model for line-source antennas: close to the aperture the power "
+        "spreads through a cylinder of the aperture height, S = F·(180/θ_BW)·P / (π·ρ·h), and the "
+        "model takes the smaller of this and the far-field value, so that each formula is used "
+        "where it is the better bound. Basis: FCC OET Bulletin 65, Ed. 97-01, Section 2 "
+        "(near-field prediction for omnidirectional and sector antennas)."
+    ),
+    "array-synthesis": (
+        "Array synthesis: the aperture is replaced by a column of short current elements at "
+        "most λ/2 apart, with an amplitude taper fitted to the antenna's vertical pattern and "
+        "the phase progression of its electrical tilt; their complete near and far fields are "
+        "summed coherently and scaled so that the radiated power equals the net input power. "
+        "Basis: Balanis, Antenna Theory, 4th ed., Sec. 4.2 (fields of a short dipole) and "
+        "Sec. 6.3 (linear arrays)."
+    ),
+    "oet65-aperture": (
+        "Aperture model for dishes: constant on-axis density 16·η·P/(πD²) out to D²/(4λ), "
+        "falling as 1/r through the transition region to 0.6·D²/λ and as 1/r² beyond, with "
+        "an off-axis reduction. Basis: FCC OET Bulletin 65, Ed. 97-01, Section 2 (aperture "
+        "antennas)."
+    ),
+}
+
+
+def _accuracy_table(ctx: ReportContext, used: list[str]) -> list:
+    rows = []
+    for mid in used:
+        e_rows = accuracy.rows_for(mid, accuracy.E_FIELD)
+        p_rows = {r[0]: r for r in accuracy.rows_for(mid, accuracy.POYNTING)}
+        for r in e_rows:
+            region = r[0].split(", ", 1)[1]
+            p = p_rows.get(r[0])
+            rows.append([mid, region, r[3], f"{r[4]} to {r[5]}", r[8],
+                         p[3] if p else "n/a", f"{p[4]} to {p[5]}" if p else "n/a",
+                         p[8] if p else "n/a"])
+    if not rows:
+        return [para("None of the models used here is part of the method-of-moments validation "
+                     "of this version: their accuracy is not available from it.")]
+    return [
+        table(["model", "region", "median (dB)", "5th to 95th percentile (dB)",
+               "within −1.5..+3 dB", "median (dB)", "5th to 95th percentile (dB)",
+               "within −1.5..+3 dB"], rows, [1.5, 1.6, 0.8, 1.3, 1.0, 0.8, 1.3, 1.0],
+              ctx.width, right_cols=(2, 3, 4, 5, 6, 7)),
+        para("Columns 3 to 5: against the plane-wave equivalent of the computed E field "
+             "(|E_rms|²/η0); columns 6 to 8: against the magnitude of the time-averaged "
+             "Poynting vector. " + accuracy.SUMMARY + f" Source: {accuracy.SOURCE}.", "small"),
+    ]
+
+
+def method(ctx: ReportContext) -> list:
+    site, data = ctx.site, ctx.data
+    used: dict[str, list[str]] = {}
+    for a in data["antennas"]:
+        used.setdefault(a["model"]["id"], []).append(a["id"])
+    out = [heading(3), para("Field models", "H2"),
+           para("Each antenna's power density is computed with one field model, chosen per "
+                "antenna (the inventory gives the choice and its reason). Models used here:")]
+    for mid, ids in used.items():
+        text = MODEL_TEXT.get(mid, "No description available for this model.")
+        out += bullets([f"<b>{mid}</b> (antennas {', '.join(ids)}): {text}"], markup=True)
+    out.append(para("Points closer to an antenna than its reactive near-field radius, "
+                    "max(λ/2π, 0.62·√(D³/λ)) with D the largest aperture dimension, cannot be "
+                    "assessed by these models. They are reported as not assessable and are "
+                    "never counted as within the limit."))
+    out.append(para("Validated accuracy", "H2"))
+    out.append(para("The models were compared with a method-of-moments solution (PyNEC) of "
+                    "reference antennas: a half-wave dipole, a collinear array and a panel with "
+                    "and without electrical tilt. The error is model minus reference in dB; "
+                    "positive values mean the model overstates the exposure."))
+    validated = [m for m in used if m in accuracy.VALIDATED_MODEL_IDS]
+    out += _accuracy_table(ctx, validated)
+    for mid in used:
+        if mid not in accuracy.VALIDATED_MODEL_IDS:
+            out.append(para(f"{mid}: not part of the method-of-moments validation; accuracy "
+                            "from that validation is not available.", "small"))
+
+    av = data["site"]["averaging"] or {}
+    out.append(para("Spatial averaging", "H2"))
+    if av.get("method") == "peak":
+        how = "the largest value on the line is taken (peak, no averaging)"
+    else:
+        how = "the mean of the values on the line is taken"
+    out.append(para(
+        f"Each grid cell of an area (spacing {data['site']['resolution_m']} m) carries a vertical "
+        f"line standing on the floor, with {av.get('points')} evenly spaced points from "
+        f"{av.get('bottom_m')} m to {av.get('top_m')} m (both ends included); {how}. Limit sets "
+        "with local (peak) reference levels are checked at the largest point of the line as "
+        "well, and the larger of the two ratios governs. Receptors are evaluated at their exact "
+        "position without averaging."))
+    out.append(para("Reflection and activity factors", "H2"))
+    refl = ", ".join(jnum(json_round(f)) for f in ctx.result.settings.get("reflection_factors", []))
+    out.append(para(
+        f"Reflection factor F (multiplies the power density; 1 = free space, 2.56 = the OET-65 "
+        f"allowance for a reflection adding in phase): {refl or 'n/a'}. The activity factor of "
+        "each antenna (duty cycle, TDD downlink share, actual-to-maximum power of beam-forming "
+        "antennas) multiplies its power; the values used are in the power chain of the "
+        "inventory. Activity factors below 1 must be justified by the operator."))
+    acts = sorted({float(a.activity) for a in site.antennas})
+    if any(x < 1.0 for x in acts):
+        low = [a.id for a in site.antennas if a.activity < 1.0]
+        out.append(para(f"Antennas with an activity factor below 1: {', '.join(low)}.", "small"))
+    out.append(para("Summing transmitters", "H2"))
+    out.append(para(
+        "The exposure ratio at a point is the sum over all antennas of S_i / S_limit(f_i), "
+        "each density divided by the limit at its own frequency, so transmitters at different "
+        "frequencies add in proportion to their limits. An operator's share is the sum over its "
+        "antennas. Operators whose share is 5 % of the limit or more where the limit is exceeded "
+        "share responsibility (47 CFR 1.1307(b)(5)). Power remedies are exact because the ratio "
+        "is linear in power; the height remedy raises the dominant antennas in 0.5 m steps and "
+        "re-evaluates the area."))
+    out.append(para("Limit tables", "H2"))
+    rows = []
+    for sid in data["site"]["limits"]:
+        src = data["limit_sources"].get(sid, {})
+        rows.append([sid, src.get("title", ""), "; ".join(src.get("tables", [])),
+                     src.get("publication", "")])
+    out.append(table(["id", "title", "tables", "publication"], rows, [1.0, 2.2, 1.2, 4.6],
+                     ctx.width))
+    out.append(para("Public areas and receptors are judged against the general-public (general "
+                    "population / uncontrolled) limits; worker areas against the occupational "
+                    "(controlled) limits, which assume trained people aware of the exposure. "
+                    "The limit-table files and their hashes are listed in the traceability "
+                    "appendix.", "small"))
+    return out

@@ -1,0 +1,294 @@
+"""The results and mitigation sections of the PDF report.
+
+Results: area verdicts per limit set, plan maps and elevation cuts, per-antenna keep-out
+distances, contributions at the worst points, receptors, zone areas and barrier lengths.
+Mitigation: power and height remedies for failing areas, barrier placement, and the
+47 CFR 1.1307(b)(4) category and sign word of each zone and at each area's access points.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from siteexposure.writers.json_out import _num as json_round
+from siteexposure.writers.report_context import ReportContext, zone_rows
+from siteexposure.writers.report_layout import bullets, jnum, jpct, metres, para, table, triple
+from siteexposure.writers.report_sections import heading
+
+KEEP_OUT_KEYS = ("front", "behind", "left", "right", "above", "below")
+#: largest share of the frame height one map may take
+MAP_HEIGHT_SHARE = 0.62
+
+
+# ----------------------------------------------------------------------------- maps
+
+
+def _is_elevation(path: Path) -> bool:
+    stem = path.stem.lower()
+    return "elev" in stem or "cut" in stem or "section" in stem
+
+
+def _caption(path: Path) -> str:
+    return path.stem.replace("_", " ").replace("-", " ")
+
+
+def _image(ctx: ReportContext, path: Path):
+    """The map scaled to the frame width, or down to the height share, keeping its aspect."""
+    from reportlab.lib.utils import ImageReader
+    from reportlab.platypus import Image
+
+    w_px, h_px = ImageReader(str(path)).getSize()
+    w = ctx.width
+    h = w * h_px / w_px
+    h_max = ctx.height * MAP_HEIGHT_SHARE
+    if h > h_max:
+        w, h = w * h_max / h, h_max
+    img = Image(str(path), width=w, height=h)
+    img.hAlign = "CENTER"
+    return img
+
+
+def _maps(ctx: ReportContext, elevation: bool) -> list:
+    from reportlab.platypus import KeepTogether
+
+    files = [Path(p) for p in ctx.map_files
+             if Path(p).suffix.lower() == ".png" and _is_elevation(Path(p)) == elevation]
+    if not files:
+        what = "elevation cuts" if elevation else "plan maps"
+        return [para(f"No {what} were rendered for this report.")]
+    return [KeepTogether([_image(ctx, p), para(_caption(p), "caption")]) for p in files]
+
+
+# ----------------------------------------------------------------------------- results
+
+
+def _area_table(ctx: ReportContext) -> list:
+    rows = []
+    for a in ctx.evaluated_areas():
+        for b in a["by_limits"]:
+            rows.append([a["name"], f"{b['limits']}\n{b['population']}",
+                         jnum(b["max_exposure_ratio"]), jpct(b["percent_of_limit"]),
+                         triple(b["at_m"]), b["governing_region"],
+                         f"{b['points']} / {b['points_not_assessable']}", b["verdict"]])
+    return [table(["area", "limit set, population", "max exposure ratio", "% of limit",
+                   "worst point E, N, floor (m)", "governing limit", "grid points / not assessable",
+                   "verdict"], rows, [1.8, 1.2, 1.1, 1.1, 1.6, 1.0, 1.2, 1.1], ctx.width,
+                  right_cols=(2, 3))]
+
+
+def _keep_out_table(ctx: ReportContext) -> list:
+    rows = []
+    for a in ctx.data["antennas"]:
+        for r in a["keep_out_by_limits"]:
+            d = r["distance_m"]
+            rows.append([a["id"], r["limits"], r["population"], jnum(r["limit_w_m2"]),
+                         *[jnum(d.get(k)) for k in KEEP_OUT_KEYS]])
+    return [
+        para("Distance from each antenna's radiation centre beyond which its own power density "
+             "(this antenna alone) stays below the whole-body limit: front and behind along the "
+             "horizontal boresight azimuth, left and right at right angles to it (seen from "
+             "behind the antenna), above and below along the vertical. 0 means the limit is not "
+             "reached outside the reactive near field. Other antennas add to these fields; the "
+             "maps show the combined zones."),
+        table(["antenna", "limit set", "population", "limit (W/m²)", *[f"{k} (m)" for k in
+                                                                       KEEP_OUT_KEYS]],
+              rows, [1.0, 1.1, 1.3, 1.0, 0.8, 0.8, 0.8, 0.8, 0.8, 0.8], ctx.width,
+              right_cols=(3, 4, 5, 6, 7, 8, 9)),
+    ]
+
+
+def _contribution_table(ctx: ReportContext) -> list:
+    ops = {a.id: a.operator for a in ctx.site.antennas}
+    rows = []
+    for a in ctx.evaluated_areas():
+        for b in a["by_limits"]:
+            for aid, v in sorted(b["antenna_share"].items(), key=lambda kv: -(kv[1] or 0)):
+                if v is None or v <= 0:
+                    continue
+                rows.append([a["name"], b["limits"], aid, ops.get(aid, ""), jnum(v),
+                             jpct(json_round(100 * v))])
+    if not rows:
+        return [para("No contributions to report.")]
+    return [para("Exposure ratio each antenna contributes at the worst point of each area "
+                 "(largest first; antennas contributing nothing there are left out). They add up "
+                 "to the area's maximum exposure ratio."),
+            table(["area", "limit set", "antenna", "operator", "exposure ratio", "% of limit"],
+                  rows, [2.2, 1.2, 1.0, 2.0, 1.2, 1.2], ctx.width, right_cols=(4, 5))]
+
+
+def _receptor_table(ctx: ReportContext) -> list:
+    if not ctx.data["points"]:
+        return [para("No receptors given.")]
+    rows = []
+    for p in ctx.data["points"]:
+        for e in p["exposure"]:
+            rows.append([p["name"], e["limits"], e["population"], jnum(e["exposure_ratio"]),
+                         jpct(e["percent_of_limit"]), e["governing_region"]])
+    dens = []
+    for p in ctx.data["points"]:
+        for a in p["antennas"]:
+            dens.append([p["name"], a["id"], jnum(a["power_density_w_m2"])])
+    return [
+        para("Both populations are listed for reference; each receptor is judged against the "
+             "limits of its own access class (see the summary)."),
+        table(["receptor", "limit set", "population", "exposure ratio", "% of limit",
+               "governing"], rows, [2.8, 1.2, 1.3, 1.2, 1.2, 1.0], ctx.width, right_cols=(3, 4)),
+        para("Power density of each antenna at each receptor", "H2"),
+        table(["receptor", "antenna", "power density (W/m²)"], dens, [3.5, 1.5, 2.0], ctx.width,
+              right_cols=(2,)),
+    ]
+
+
+def _zone_table(ctx: ReportContext) -> list:
+    rows = [[z["area"], z["set_id"], z["label"], jnum(json_round(z["area_m2"], 4))]
+            for z in zone_rows(ctx.zones)]
+    out = [para("Zones are the parts of an area where the exposure ratio (with spatial averaging) "
+                "is above the level named; zones are nested, not bands. A not-assessable zone is "
+                "where the models cannot give a number; it is included in every other zone of "
+                "its area.")]
+    if rows:
+        out.append(table(["area", "limit set", "zone: exposure ratio above", "area (m²)"], rows,
+                         [2.4, 1.2, 3.0, 1.2], ctx.width, right_cols=(3,)))
+    else:
+        out.append(para("No area has any zone at the levels evaluated."))
+    return out
+
+
+def _barrier_rows(ctx: ReportContext) -> list[list]:
+    rows = []
+    for sid, entry in ctx.barriers.items():
+        by_area = entry.get("by_area_m", {})
+        if not by_area:
+            rows.append([sid, "all public areas", jnum(json_round(entry.get("total_m", 0.0), 4))])
+        for name, length in by_area.items():
+            rows.append([sid, name, jnum(json_round(length, 4))])
+    return rows
+
+
+def results(ctx: ReportContext) -> list:
+    out = [heading(4), para("Areas", "H2"), *_area_table(ctx)]
+    out += [para("Plan maps", "H2"),
+            para("Exposure ratio on each evaluated area, on a continuous scale in dB "
+                 "(10·log10 of the ratio; 0 dB = at the limit), with the boundary lines labelled "
+                 "on the map.")]
+    out += _maps(ctx, elevation=False)
+    out += [para("Elevation cuts", "H2"),
+            para("Exposure ratio on the vertical plane through each antenna's boresight, point "
+                 "values without spatial averaging.")]
+    out += _maps(ctx, elevation=True)
+    out += [para("Per-antenna keep-out distances", "H2"), *_keep_out_table(ctx)]
+    out += [para("Contributions at the worst points", "H2"), *_contribution_table(ctx)]
+    out += [para("Receptors", "H2"), *_receptor_table(ctx)]
+    out += [para("Zone areas", "H2"), *_zone_table(ctx)]
+    out.append(para("Barrier lengths", "H2"))
+    rows = _barrier_rows(ctx)
+    if rows:
+        out.append(para("Length of the boundary of the zone above the general-public limit that "
+                        "runs inside public areas (parts along the area's own edge, such as a "
+                        "parapet, need no barrier and are not counted)."))
+        out.append(table(["limit set", "public area", "barrier length (m)"], rows,
+                         [1.5, 3.5, 1.5], ctx.width, right_cols=(2,)))
+    else:
+        out.append(para("No barrier lengths were computed."))
+    return out
+
+
+# ----------------------------------------------------------------------------- mitigation
+
+
+def _remedy_rows(b: dict) -> list[list]:
+    m = b["mitigation"]
+    if m is None:
+        return []
+    rows = [["every antenna reduces power", f"{jnum(m['uniform_reduction_db'])} dB"]]
+    resp = m["responsible_operators_reduction_db"]
+    ops = ", ".join(b["responsible_operators"]) or "none"
+    rows.append([f"only the responsible operators ({ops}) reduce, all by the same amount",
+                 "not possible alone" if resp is None else f"{jnum(resp)} dB"])
+    for op, v in m["operator_alone_reduction_db"].items():
+        rows.append([f"{op} alone reduces", "not possible alone" if v is None else f"{jnum(v)} dB"])
+    raised = ", ".join(m["raised_antennas"]) or "none"
+    h = m["extra_height_m"]
+    rows.append([f"raise the dominant antennas ({raised}) together",
+                 f"not found within {jnum(m['height_search_limit_m'])} m" if h is None
+                 else f"{jnum(h)} m higher"])
+    return rows
+
+
+def _access_point_rows(ctx: ReportContext) -> list[list]:
+    """Per area and limit set: the highest computed category, and what is not assessable."""
+    zones = zone_rows(ctx.zones)
+    rows = []
+    for a in ctx.evaluated_areas():
+        for b in a["by_limits"]:
+            mine = [z for z in zones if z["area"] == a["name"] and z["set_id"] == b["limits"]]
+            computed = [z for z in mine if z["category"] > 0 and not z["only_unknown"]]
+            if computed:
+                top = max(computed, key=lambda z: z["category"])
+                cat, word = top["category_name"], top["sign_word"]
+            else:
+                cat, word = "Category One", "INFORMATION (optional)"
+            note = ""
+            if any(z["kind"] == "not-assessable" for z in mine):
+                note = ("part of the area is not assessable by these models: the reviewer sets "
+                        "the sign there (see the zones above)")
+            rows.append([a["name"], b["limits"], cat, word, note])
+    return rows
+
+
+def mitigation(ctx: ReportContext) -> list:
+    out = [heading(5)]
+    failing = ctx.failing()
+    out.append(para("Remedies for failing areas", "H2"))
+    if not failing:
+        out.append(para("No area exceeds a limit on these inputs, so no power or height remedy "
+                        "is needed. Signage below still applies."))
+    for a, b in failing:
+        out.append(para(f"{a['name']} — {b['limits']} ({b['population']}): maximum exposure ratio "
+                        f"{jnum(b['max_exposure_ratio'])}", "H2"))
+        out.append(table(["remedy", "amount that brings the area to the limit"], _remedy_rows(b),
+                         [4.0, 2.0], ctx.width))
+    out.append(para("Power reductions are exact (exposure is proportional to power). Heights are "
+                    "searched in steps and re-evaluated; a reduction of one operator alone is "
+                    "'not possible alone' where the others already exceed the limit without it.",
+                    "small"))
+    out.append(para("Barrier placement", "H2"))
+    rows = _barrier_rows(ctx)
+    if any(float(r[2]) > 0 for r in rows if r[2] != "n/a"):
+        out += bullets([f"{r[1]} ({r[0]}): a barrier about {metres(float(r[2]))} long along the "
+                        "boundary of the zone above the general-public limit, as drawn on the "
+                        "plan map; the public stays outside it." for r in rows
+                        if r[2] != "n/a" and float(r[2]) > 0])
+    else:
+        out.append(para("No zone above the general-public limit lies inside a public area: no "
+                        "barrier is needed on these inputs."))
+    out.append(para("Signs: category and sign word of each zone", "H2"))
+    out.append(para("Categories of 47 CFR 1.1307(b)(4): One, at or below the general-public "
+                    "limit (an INFORMATION sign is optional); Two, above the general-public but "
+                    "at most the occupational limit (NOTICE); Three, above the occupational limit "
+                    "up to ten times it (CAUTION); Four, above ten times the occupational limit "
+                    "(WARNING; the reviewer may require DANGER where contact injury is possible). "
+                    "The scheme is defined against the FCC limits; for other limit sets it is "
+                    "applied by analogy with that set's own general and occupational limits."))
+    zrows = []
+    for z in zone_rows(ctx.zones):
+        if z["kind"] == "not-assessable":
+            note = "the models give no number here"
+        elif z["only_unknown"]:
+            note = "lies wholly in the not-assessable part: category not computed from values"
+        else:
+            note = ""
+        zrows.append([z["area"], z["set_id"], z["label"], z["category_name"],
+                      z["sign_word"] or "-", note])
+    if zrows:
+        out.append(table(["area", "limit set", "zone", "category", "sign word", "note"], zrows,
+                         [1.9, 1.1, 1.9, 1.2, 1.1, 2.3], ctx.width))
+    else:
+        out.append(para("No zones: every evaluated area is in Category One."))
+    out.append(para("Signs at the access points of each area", "H2"))
+    out.append(para("The sign at each way into an area (doors, hatches, ladders, and any point "
+                    "of its boundary where people can enter) carries the highest category found "
+                    "anywhere in the area."))
+    out.append(table(["area", "limit set", "category at its access points", "sign word", "note"],
+                     _access_point_rows(ctx), [2.2, 1.2, 1.6, 1.6, 2.2], ctx.width))
+    return out
