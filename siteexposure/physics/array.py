@@ -23,11 +23,14 @@ Element pattern (design and justification)
   suppression) are averaged. Because the fit is made on the far field of the same column,
   the model's far-field limit reproduces the vertical cut and its beamwidth for the given
   aperture height.
-* Azimuth shape: ``a(phi) = G_h(phi) / G_h(phi_peak)``, the horizontal cut relative to its
-  peak, as a power factor common to all sub-sources (all lie on the antenna axis, so every
-  element sees a field point at the same azimuth). The model is therefore separable:
-  ``G(phi, el) = G_peak a(phi) v(el)``, exact on the horizontal cut and on the front
-  vertical cut; the back vertical cut is the front one scaled by the front-to-back ratio.
+* Azimuth shape: the element power factor ``e(phi, el)`` of :func:`_element_table`, the
+  horizontal cut relative to boresight combined with the back/front difference of the
+  vertical cuts (3GPP TR 38.901 additive form), common to all sub-sources and evaluated at
+  the direction of the point from the radiation centre: exact on the horizontal cut and on
+  the front cut, close on the back cut.
+* Far-field residual: the fit's remaining error on the front cut is corrected as
+  ``C(el)`` (within +-3 dB), phased in with ``(r / R_ff)^2`` so that it acts fully from the
+  far-field range on and hardly at all close in.
 
 Validity and assumptions
 ------------------------
