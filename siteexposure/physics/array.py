@@ -62,6 +62,7 @@ References
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -332,28 +333,9 @@ class ArraySynthesis:
         if not (np.isfinite(rad.frequency_hz) and rad.frequency_hz > 0):
             raise InputError(f"antenna frequency = {rad.frequency_hz!r} Hz: expected > 0")
         lam = C0 / rad.frequency_hz
-        k = 2.0 * np.pi / lam
-        n = n_sub_sources(h, lam)
-        d = h / n
-        z = (np.arange(n) + 0.5) * d - 0.5 * h
-        pattern = rad.pattern
-        table, el, g_v = _element_table(pattern)
-        tilt_data = float(getattr(pattern, "electrical_tilt_deg", 0.0) or 0.0)
-        # a table pattern carries its own tilt; a parametric one is built with the radiator's
-        tilt = tilt_data if hasattr(pattern, "h_angle_deg") else float(rad.electrical_tilt_deg)
-        amp, kk = _fit_taper(z, k, el, g_v, np.deg2rad(tilt_data))
-        corr = np.ones(181)
-        if abs(tilt - tilt_data) < 1e-9:  # fit residual on the front cut, 1 deg steps
-            el1 = np.deg2rad(np.arange(-90.0, 90.5, 1.0))
-            af = np.exp(1j * k * np.outer(np.sin(el1) + np.sin(np.deg2rad(tilt_data)), z)) @ amp
-            fit_db = _db(kk * np.cos(el1) ** 2 * np.abs(af) ** 2)
-            res = np.interp(el1, el, _db(g_v)) - np.maximum(fit_db, _db(g_v).max() - FIT_FLOOR_DB)
-            corr = 10.0 ** (np.clip(res, -CORRECTION_MAX_DB, CORRECTION_MAX_DB) / 10.0)
-        # unit moments: far-field gain 4 pi U / (1 W) = K cos^2 |AF_A|^2
-        const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
-        unit = amp * np.sqrt(kk / (4.0 * np.pi * const))
-        unit = unit * np.exp(1j * k * z * np.sin(np.deg2rad(tilt)))
-        p_unit, u_peak = _radiated_power(unit, z, k, table * corr[None, :])
+        z, unit, table, corr, p_unit, u_peak, tilt = _column_shape(
+            rad.pattern, float(rad.frequency_hz), float(h), float(rad.electrical_tilt_deg)
+        )
         scale = np.sqrt(rad.power_w / p_unit) if rad.power_w > 0 else 0.0
         return cls(
             position_m=np.asarray(rad.position_m, dtype=float).reshape(3),
@@ -476,6 +458,12 @@ def _lookup(table, phi, theta) -> np.ndarray:
     return (1 - tx) * ((1 - ty) * g00 + ty * g01) + tx * ((1 - ty) * g10 + ty * g11)
 
 
+@functools.lru_cache(maxsize=32)
+def _gauss_legendre(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss-Legendre nodes and weights on [-1, 1] (memoised: costly for large n)."""
+    return np.polynomial.legendre.leggauss(n)
+
+
 def _radiated_power(w, z, k, table) -> tuple[float, float]:
     """Radiated power and peak radiation intensity (numerical integration over the sphere).
 
@@ -484,7 +472,7 @@ def _radiated_power(w, z, k, table) -> tuple[float, float]:
     ``E = j eta k / (4 pi r) cos(el) AF sqrt(e)``. Returns ``(P [W], U_max [W/sr])``.
     """
     n_u = int(max(256, 6 * k * (z.max() - z.min() + 1e-12)))
-    u, wu = np.polynomial.legendre.leggauss(n_u)
+    u, wu = _gauss_legendre(n_u)
     el = np.concatenate([np.arcsin(u), np.deg2rad(np.arange(-90.0, 90.0 + 1e-9, 0.05))])
     af = np.exp(1j * k * np.outer(np.sin(el), z)) @ w
     const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
@@ -495,6 +483,51 @@ def _radiated_power(w, z, k, table) -> tuple[float, float]:
     p = float(np.sum(wu * ring * vert[:n_u]))
     return p, float(np.max(e * vert[None, :]))
 
+
+
+_SHAPES: dict = {}
+_SHAPES_SIZE = 64
+
+
+def _column_shape(pattern, frequency_hz: float, h: float, electrical_tilt_deg: float) -> tuple:
+    """The orientation- and power-independent part of an array model, memoised.
+
+    Antennas of a site that share a pattern object, frequency, aperture height and tilt
+    (the sectors of one operator's band) share one taper fit and one sphere integral;
+    only position, orientation and power differ, and those are applied afterwards.
+    Returns ``(z_m, unit_moments, element_table, vertical_correction, p_unit, u_peak, tilt)``.
+    """
+    key = (id(pattern), frequency_hz, h, electrical_tilt_deg)
+    hit = _SHAPES.get(key)
+    if hit is not None and hit[0] is pattern:
+        return hit[1]
+    lam = C0 / frequency_hz
+    k = 2.0 * np.pi / lam
+    n = n_sub_sources(h, lam)
+    d = h / n
+    z = (np.arange(n) + 0.5) * d - 0.5 * h
+    table, el, g_v = _element_table(pattern)
+    tilt_data = float(getattr(pattern, "electrical_tilt_deg", 0.0) or 0.0)
+    # a table pattern carries its own tilt; a parametric one is built with the radiator's
+    tilt = tilt_data if hasattr(pattern, "h_angle_deg") else float(electrical_tilt_deg)
+    amp, kk = _fit_taper(z, k, el, g_v, np.deg2rad(tilt_data))
+    corr = np.ones(181)
+    if abs(tilt - tilt_data) < 1e-9:  # fit residual on the front cut, 1 deg steps
+        el1 = np.deg2rad(np.arange(-90.0, 90.5, 1.0))
+        af = np.exp(1j * k * np.outer(np.sin(el1) + np.sin(np.deg2rad(tilt_data)), z)) @ amp
+        fit_db = _db(kk * np.cos(el1) ** 2 * np.abs(af) ** 2)
+        res = np.interp(el1, el, _db(g_v)) - np.maximum(fit_db, _db(g_v).max() - FIT_FLOOR_DB)
+        corr = 10.0 ** (np.clip(res, -CORRECTION_MAX_DB, CORRECTION_MAX_DB) / 10.0)
+    # unit moments: far-field gain 4 pi U / (1 W) = K cos^2 |AF_A|^2
+    const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
+    unit = amp * np.sqrt(kk / (4.0 * np.pi * const))
+    unit = unit * np.exp(1j * k * z * np.sin(np.deg2rad(tilt)))
+    p_unit, u_peak = _radiated_power(unit, z, k, table * corr[None, :])
+    out = (z, unit, table, corr, p_unit, u_peak, tilt)
+    if len(_SHAPES) >= _SHAPES_SIZE:
+        _SHAPES.pop(next(iter(_SHAPES)))
+    _SHAPES[key] = (pattern, out)  # holding the pattern keeps its id unique
+    return out
 
 _CACHE: dict = {}
 _CACHE_SIZE = 64
