@@ -90,6 +90,8 @@ def _show(value: Any) -> str:
             text = json.dumps(value, default=str, ensure_ascii=False).replace('": ', '" = ')
         except ValueError:
             text = repr(value)
+    elif hasattr(value, "isoformat"):  # TOML dates and times
+        text = value.isoformat()
     else:
         text = repr(value)
     return text if len(text) <= 70 else text[:67] + "..."
@@ -184,11 +186,14 @@ def _expected(err: Mapping[str, Any]) -> str:
         return f"a number <= {_number(ctx['le'])}"
     if kind == "literal_error":
         return f"one of {ctx['expected']}".replace("'", '"')
-    if kind == "too_short":
-        what = "characters" if isinstance(err.get("input"), str) else "items"
-        return f"at least {ctx['min_length']} {what}"
+    if kind in ("too_short", "string_too_short"):
+        n = int(ctx["min_length"])
+        what = "character" if kind == "string_too_short" else "item"
+        return "a non-empty text" if kind == "string_too_short" and n == 1 else (
+            f"at least {n} {what}{'s' if n > 1 else ''}")
     if kind == "too_long":
-        return f"at most {ctx['max_length']} items"
+        n = int(ctx["max_length"])
+        return f"at most {n} item{'s' if n > 1 else ''}"
     return str(err["msg"]).removeprefix("Input should be ").removeprefix("Value error, ")
 
 

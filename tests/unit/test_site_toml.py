@@ -215,6 +215,9 @@ BAD_VALUES = [
     ("at = [30.0, 5.0, 12.0]", "at = [30.0, 5.0]", ['point "Window" > at', "at least 3"]),
     ("at = [30.0, 5.0, 12.0]", 'at = [30.0, "x", 12.0]', ['point "Window" > at > north = "x"']),
     ('limits = ["fcc-1310"]', 'limits = "fcc-1310"', ["site > limits", "list"]),
+    ('limits = ["fcc-1310"]', "limits = []", ["site > limits = []", "at least 1 item"]),
+    ("carriers = 2", "carriers = 1979-05-27", ["carriers = 1979-05-27", "whole number"]),
+    ('id = "A2"', 'id = ""', ['antenna #2 > id = ""', "non-empty"]),
     # negative, zero and non-finite numbers
     ("line_loss_db = 2.0", "line_loss_db = -1", ['"A1" > line_loss_db = -1', ">= 0"]),
     ("tx_power_w = 40.0", "tx_power_w = -40.0", ["tx_power_w = -40.0", "greater than 0"]),
@@ -434,3 +437,18 @@ def test_utf8_bom_is_accepted(tmp_path):
     path = write_site(tmp_path, BASE)
     path.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
     assert read_site(path).name == "Test site"
+
+
+def test_command_line_prints_one_error_line_and_exits_2(tmp_path):
+    """Issue 4, bad input: exit status 2, one clear message, no traceback."""
+    import subprocess
+    import sys
+
+    path = write_site(tmp_path, edit("activity = 0.5", "activity = 1.5"))
+    out = subprocess.run([sys.executable, "-m", "siteexposure", "screen", str(path), "--json"],
+                         capture_output=True, text=True, timeout=120, check=False)
+    assert out.returncode == 2
+    assert out.stdout == ""
+    lines = out.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("Error: ") and "Traceback" not in out.stderr
+    assert 'antenna "A1" > activity = 1.5' in lines[0]
