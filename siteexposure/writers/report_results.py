@@ -8,6 +8,7 @@ Mitigation: power and height remedies for failing areas, barrier placement, and 
 
 from __future__ import annotations
 
+import io
 from pathlib import Path
 
 from siteexposure.writers.json_out import _num as json_round
@@ -16,47 +17,94 @@ from siteexposure.writers.report_layout import bullets, jnum, jpct, metres, para
 from siteexposure.writers.report_sections import heading
 
 KEEP_OUT_KEYS = ("front", "behind", "left", "right", "above", "below")
-#: largest share of the frame height one map may take
-MAP_HEIGHT_SHARE = 0.62
+#: largest share of the frame height a plan map, and an elevation cut, may take (two cuts
+#: fit on one page)
+PLAN_HEIGHT_SHARE = 0.62
+ELEVATION_HEIGHT_SHARE = 0.46
+TRIM_PAD_PX = 12  #: white margin kept round a trimmed map [px]
 
 
 # ----------------------------------------------------------------------------- maps
 
 
 def _is_elevation(path: Path) -> bool:
-    stem = path.stem.lower()
-    return "elev" in stem or "cut" in stem or "section" in stem
+    return path.stem.lower().startswith("elevation")
 
 
-def _caption(path: Path) -> str:
-    return path.stem.replace("_", " ").replace("-", " ")
+def _captions(ctx: ReportContext) -> dict[str, str]:
+    """Caption of each map file stem that :func:`siteexposure.writers.maps.render_maps` writes."""
+    from siteexposure.writers.maps import map_file_stem
+
+    site = ctx.site
+    out = {}
+    for i, ar in enumerate(ctx.result.areas):
+        for sid in site.limits:
+            out[map_file_stem("plan", i + 1, ar.area.name, sid)] = (
+                f"Plan of {ar.area.name} ({ar.area.access} access, floor {ar.area.floor_m:g} m): "
+                f"exposure ratio under {ctx.set_title(sid)} ({sid}).")
+    for k, ant in enumerate(site.antennas):
+        for sid in site.limits:
+            out[map_file_stem("elevation", k + 1, ant.id, sid)] = (
+                f"Elevation cut through antenna {ant.id} ({ant.operator}, "
+                f"{ant.frequency_mhz:g} MHz, azimuth {ant.azimuth_deg:g}°): exposure ratio under "
+                f"{ctx.set_title(sid)} ({sid}).")
+    return out
 
 
-def _image(ctx: ReportContext, path: Path):
-    """The map scaled to the frame width, or down to the height share, keeping its aspect."""
-    from reportlab.lib.utils import ImageReader
+def _trimmed_png(path: Path) -> tuple[io.BytesIO, int, int]:
+    """The image with its plain outer margin cut off (PNG in memory), and its size in px.
+
+    Maps carry a generous white border; trimming it lets the drawing itself use the
+    width of the page, so its lettering stays readable.
+    """
+    from PIL import Image as PILImage
+    from PIL import ImageChops
+
+    with PILImage.open(path) as im:
+        rgb = im.convert("RGB")
+    bg = PILImage.new("RGB", rgb.size, rgb.getpixel((0, 0)))
+    box = ImageChops.difference(rgb, bg).getbbox()
+    if box is not None:
+        pad = TRIM_PAD_PX
+        box = (max(box[0] - pad, 0), max(box[1] - pad, 0), min(box[2] + pad, rgb.width),
+               min(box[3] + pad, rgb.height))
+        rgb = rgb.crop(box)
+    buf = io.BytesIO()
+    rgb.save(buf, format="PNG")
+    buf.seek(0)
+    return buf, rgb.width, rgb.height
+
+
+def _image(ctx: ReportContext, path: Path, share: float):
+    """The map scaled to the frame width, or down to ``share`` of the frame height."""
     from reportlab.platypus import Image
 
-    w_px, h_px = ImageReader(str(path)).getSize()
+    data, w_px, h_px = _trimmed_png(path)
     w = ctx.width
     h = w * h_px / w_px
-    h_max = ctx.height * MAP_HEIGHT_SHARE
+    h_max = ctx.height * share
     if h > h_max:
         w, h = w * h_max / h, h_max
-    img = Image(str(path), width=w, height=h)
+    img = Image(data, width=w, height=h)
     img.hAlign = "CENTER"
     return img
 
 
-def _maps(ctx: ReportContext, elevation: bool) -> list:
+def _maps(ctx: ReportContext, elevation: bool, intro: list) -> list:
+    """The maps of one kind, each kept with its caption; ``intro`` stays with the first."""
     from reportlab.platypus import KeepTogether
 
     files = [Path(p) for p in ctx.map_files
              if Path(p).suffix.lower() == ".png" and _is_elevation(Path(p)) == elevation]
     if not files:
         what = "elevation cuts" if elevation else "plan maps"
-        return [para(f"No {what} were rendered for this report.")]
-    return [KeepTogether([_image(ctx, p), para(_caption(p), "caption")]) for p in files]
+        return [*intro, para(f"No {what} were rendered for this report.")]
+    captions = _captions(ctx)
+    share = ELEVATION_HEIGHT_SHARE if elevation else PLAN_HEIGHT_SHARE
+    blocks = [[_image(ctx, p, share), para(captions.get(p.stem, p.stem), "caption")]
+              for p in files]
+    blocks[0] = intro + blocks[0]
+    return [KeepTogether(b) for b in blocks]
 
 
 # ----------------------------------------------------------------------------- results
@@ -167,15 +215,15 @@ def _barrier_rows(ctx: ReportContext) -> list[list]:
 
 def results(ctx: ReportContext) -> list:
     out = [heading(4), para("Areas", "H2"), *_area_table(ctx)]
-    out += [para("Plan maps", "H2"),
-            para("Exposure ratio on each evaluated area, on a continuous scale in dB "
-                 "(10·log10 of the ratio; 0 dB = at the limit), with the boundary lines labelled "
-                 "on the map.")]
-    out += _maps(ctx, elevation=False)
-    out += [para("Elevation cuts", "H2"),
-            para("Exposure ratio on the vertical plane through each antenna's boresight, point "
-                 "values without spatial averaging.")]
-    out += _maps(ctx, elevation=True)
+    out += _maps(ctx, False, [
+        para("Plan maps", "H2"),
+        para("Exposure ratio on each evaluated area, on a continuous scale in dB "
+             "(10·log10 of the ratio; 0 dB = at the limit), with the boundary lines labelled "
+             "on the map.")])
+    out += _maps(ctx, True, [
+        para("Elevation cuts", "H2"),
+        para("Exposure ratio on the vertical plane through each antenna's boresight, point "
+             "values without spatial averaging.")])
     out += [para("Per-antenna keep-out distances", "H2"), *_keep_out_table(ctx)]
     out += [para("Contributions at the worst points", "H2"), *_contribution_table(ctx)]
     out += [para("Receptors", "H2"), *_receptor_table(ctx)]
