@@ -1,0 +1,798 @@
+"""Maps of a site (matplotlib, Agg): a plan of each evaluated area and an elevation cut
+through each antenna's boresight, for every limit set of the site, in PNG and SVG.
+
+Our own look:
+
+* the exposure ratio on a continuous decibel scale, ``10 log10(ratio)``, from
+  :data:`DB_RANGE`, with the perceptually uniform ``cividis`` colormap (readable with
+  the common colour-vision deficiencies, and in grey-scale print); 0 dB is the limit;
+* boundaries as black lines with a white halo, told apart by line style and an inline
+  label: solid = occupational limit, dashed = general-public limit, dash-dot = ten
+  times the occupational limit, dotted = the site's extra levels;
+* cells the models cannot assess hatched (never coloured as a pass);
+* antennas as white discs with their id and an arrow along the boresight azimuth;
+  receptors as squares; area outlines with their access word;
+* scale bar, north arrow (the local frame's +north is TRUE north at the site origin,
+  see :mod:`siteexposure.geo`), legend, colour bar in dB and a title block with the
+  site, the area or antenna, the limit set and the one-line caution.
+
+Output is deterministic: the same result gives byte-identical files (no dates, no
+software-version metadata, fixed SVG hash salt, text kept as text in SVG).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Callable, Sequence
+from pathlib import Path
+
+import numpy as np
+
+from siteexposure.engine.result import SiteResult
+
+__all__ = ["DB_RANGE", "azimuth_unit", "map_file_stem", "render_maps"]
+
+DB_RANGE = (-30.0, 20.0)  #: colour scale of every map, 10 log10(exposure ratio) [dB]
+CMAP = "cividis"
+STYLES = {  # kind -> (linestyle, linewidth, legend text)
+    "occupational-limit": ("-", 1.7, "occupational limit (ratio 1)"),
+    "general-limit": ((0, (6, 3)), 1.7, "general-public limit (ratio 1)"),
+    "occupational-10x": ((0, (8, 2, 1.5, 2)), 1.5, "10 x occupational limit"),
+    "extra": ((0, (1, 1.6)), 1.3, "extra level (see label)"),
+}
+SHORT = {"general-limit": "general limit", "occupational-limit": "occupational limit",
+         "occupational-10x": "10x occupational"}
+CUT_POINT_BUDGET = 8_000  #: plane points of one elevation cut (the models are costly)
+CUT_MAX_HALF_M = 120.0  #: widest elevation cut, each side of the antenna [m]
+_DPI = 150
+
+
+def azimuth_unit(azimuth_deg: float) -> tuple[float, float]:
+    """(east, north) unit vector of an azimuth clockwise from north: (sin a, cos a)."""
+    a = math.radians(float(azimuth_deg))
+    return math.sin(a), math.cos(a)
+
+
+def _slug(text: str) -> str:
+    s = re.sub(r"[^a-z0-9]+", "-", str(text).lower()).strip("-")
+    return s or "x"
+
+
+def map_file_stem(kind: str, index: int, name: str, set_id: str) -> str:
+    """File name stem of one map, e.g. ``plan_01_roof-garden-terrace_fcc-1310``."""
+    return f"{kind}_{index:02d}_{_slug(name)}_{_slug(set_id)}"
+
+
+def _nice_length(span: float) -> float:
+    """A 1-2-5 length near a fifth of ``span``. [m]"""
+    target = max(span / 5.0, 1e-3)
+    exp = math.floor(math.log10(target))
+    for m in (5, 2, 1):
+        if m * 10**exp <= target:
+            return m * 10**exp
+    return 10**exp
+
+
+def _db(ratio: np.ndarray) -> np.ndarray:
+    r = np.asarray(ratio, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(np.isfinite(r), 10.0 * np.log10(np.maximum(r, 1e-30)), np.nan)
+
+
+def _edges(c: np.ndarray) -> np.ndarray:
+    c = np.asarray(c, dtype=float)
+    if len(c) == 1:
+        return np.array([c[0] - 0.5, c[0] + 0.5])
+    mid = 0.5 * (c[1:] + c[:-1])
+    return np.concatenate([[c[0] - (mid[0] - c[0])], mid, [c[-1] + (c[-1] - mid[-1])]])
+
+
+def _halo(width: float = 3.2):
+    from matplotlib import patheffects
+
+    return [patheffects.withStroke(linewidth=width, foreground="white")]
+
+
+# ---------------------------------------------------------------------------------------
+# boundary lines
+# ---------------------------------------------------------------------------------------
+
+
+def _lines(x, y, z, level: float, clip=None) -> list[np.ndarray]:
+    """Contour lines of ``z`` at ``level`` (contourpy), clipped to a shapely polygon."""
+    import contourpy
+    import shapely
+    from shapely.geometry import LineString
+
+    zz = np.ma.masked_invalid(np.asarray(z, dtype=float))
+    if zz.count() == 0:
+        return []
+    gen = contourpy.contour_generator(x, y, zz, line_type=contourpy.LineType.Separate)
+    pieces = [p for p in gen.lines(level) if len(p) >= 2]
+    if clip is None:
+        return pieces
+    out = []
+    for p in pieces:
+        inter = LineString(p).intersection(clip)
+        for part in shapely.get_parts(inter):
+            if part.geom_type == "LineString" and part.length > 0:
+                out.append(np.asarray(part.coords))
+            elif part.geom_type == "MultiLineString":
+                out.extend(np.asarray(g.coords) for g in part.geoms)
+    return out
+
+
+def _try_label(ax, piece: np.ndarray, text: str, frac: float, fontsize: float, placed: list):
+    """Put ``text`` on ``piece`` at ``frac`` of its length if it overlaps nothing placed."""
+    seg = np.hypot(*np.diff(piece, axis=0).T)
+    cum = np.concatenate([[0.0], np.cumsum(seg)])
+    s = frac * cum[-1]
+    k = int(np.clip(np.searchsorted(cum, s) - 1, 0, len(seg) - 1))
+    t = (s - cum[k]) / seg[k] if seg[k] > 0 else 0.0
+    xy = piece[k] + t * (piece[k + 1] - piece[k])
+    a, b = ax.transData.transform(piece[k]), ax.transData.transform(piece[k + 1])
+    ang = math.degrees(math.atan2(b[1] - a[1], b[0] - a[0]))  # on screen, kept upright
+    if ang > 90:
+        ang -= 180
+    elif ang <= -90:
+        ang += 180
+    txt = ax.text(xy[0], xy[1], text, fontsize=fontsize, rotation=ang, rotation_mode="anchor",
+                  ha="center", va="center", zorder=8, color="black", clip_on=True,
+                  bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none", "alpha": 0.85})
+    renderer = ax.figure.canvas.get_renderer()
+    bb = txt.get_window_extent(renderer).expanded(1.08, 1.15)
+    frame = ax.get_window_extent(renderer)
+    inside = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
+    if not inside or any(bb.overlaps(p) for p in placed):
+        txt.remove()
+        return False
+    placed.append(bb)
+    return True
+
+
+def _label_along(ax, pieces: list[np.ndarray], text: str, fontsize: float, placed: list) -> bool:
+    """One inline label on the longest pieces, where it overlaps no other label."""
+    def screen_length(p):
+        d = np.diff(ax.transData.transform(p), axis=0)
+        return float(np.sum(np.hypot(d[:, 0], d[:, 1])))
+
+    ranked = sorted(pieces, key=screen_length, reverse=True)[:4]
+    for p in ranked:
+        if screen_length(p) < 3.0 * fontsize * len(text) * 0.6:
+            break  # too short to carry its label legibly
+        for frac in (0.5, 0.3, 0.7, 0.2, 0.8, 0.4, 0.6, 0.1, 0.9):
+            if _try_label(ax, p, text, frac, fontsize, placed):
+                return True
+    return False
+
+
+def _draw_boundaries(ax, x, y, specs, clip, fontsize: float, placed: list) -> list[tuple[str, str]]:
+    """Draw every (kind, grid, level, label) boundary; returns the (kind, label) drawn."""
+    drawn, lines = [], []
+    for kind, grid, level, label in specs:
+        pieces = _lines(x, y, grid, level, clip)
+        if not pieces:
+            continue
+        ls, lw, _ = STYLES[kind]
+        for p in pieces:
+            ax.plot(p[:, 0], p[:, 1], color="black", linestyle=ls, linewidth=lw,
+                    path_effects=_halo(lw + 2.0), zorder=6, solid_capstyle="round")
+        lines.append((pieces, label))
+        drawn.append((kind, label))
+
+    ax.apply_aspect()
+    for pieces, label in lines:
+        _label_along(ax, pieces, label, fontsize, placed)
+    return drawn
+
+
+def _boundary_specs(ratio: dict, set_id: str, own_population: str, extra: Sequence[float]):
+    rg, ro = ratio.get((set_id, "general")), ratio.get((set_id, "occupational"))
+    specs = []
+    if rg is not None:
+        specs.append(("general-limit", rg, 1.0, SHORT["general-limit"]))
+    if ro is not None:
+        specs.append(("occupational-limit", ro, 1.0, SHORT["occupational-limit"]))
+        specs.append(("occupational-10x", ro, 10.0, SHORT["occupational-10x"]))
+    own = ratio.get((set_id, own_population))
+    done = {("general", 1.0), ("occupational", 1.0), ("occupational", 10.0)}
+    for lv in sorted({float(v) for v in extra}):
+        if own is not None and (own_population, lv) not in done:
+            specs.append(("extra", own, lv, f"{lv:g}x {own_population}"))
+    return specs
+
+
+# ---------------------------------------------------------------------------------------
+# furniture: antennas, north arrow, scale bar, title block, legend
+# ---------------------------------------------------------------------------------------
+
+
+def _clusters(items: list[tuple[str, float, float]], radius: float) -> list[list[int]]:
+    """Groups of items (id, x, y) closer than ``radius`` to a member (single linkage)."""
+    groups: list[list[int]] = []
+    for i, (_, x, y) in enumerate(items):
+        near = [g for g in groups if any(math.hypot(x - items[j][1], y - items[j][2]) < radius for j in g)]
+        merged = [i] + [j for g in near for j in g]
+        groups = [g for g in groups if g not in near] + [sorted(merged)]
+    return sorted(groups)
+
+
+def _draw_antennas_plan(ax, antennas, span: float, fontsize: float, placed: list) -> None:
+    """Discs, boresight arrows and id labels (co-located antennas share one label)."""
+    arrow = 0.07 * span
+    items = [(a.id, float(a.position_m[0]), float(a.position_m[1])) for a in antennas]
+    for a in antennas:
+        e, n = float(a.position_m[0]), float(a.position_m[1])
+        ue, un = azimuth_unit(a.azimuth_deg)
+        placed.append(_arrow_box(ax, (e, n), (e + arrow * ue, n + arrow * un)))
+        ax.annotate("", xy=(e + arrow * ue, n + arrow * un), xytext=(e, n), zorder=9,
+                    arrowprops={"arrowstyle": "-|>", "color": "black", "lw": 1.1,
+                                "shrinkA": 0, "shrinkB": 0, "mutation_scale": 9})
+        ax.plot([e], [n], marker="o", ms=5.5, mfc="white", mec="black", mew=1.0, zorder=10, ls="none")
+    for g in _clusters(items, 0.045 * span):
+        ids = [items[j][0] for j in g]
+        cx = float(np.mean([items[j][1] for j in g]))
+        cy = float(np.mean([items[j][2] for j in g]))
+        # the label goes behind the mean boresight, where no arrow is drawn
+        ue = float(np.mean([azimuth_unit(antennas[j].azimuth_deg)[0] for j in g]))
+        un = float(np.mean([azimuth_unit(antennas[j].azimuth_deg)[1] for j in g]))
+        norm = math.hypot(ue, un) or 1.0
+        dx, dy = -ue / norm, -un / norm
+        t = ax.annotate("\n".join(ids), xy=(cx, cy), xytext=(dx * 11, dy * 11),
+                        textcoords="offset points",
+                        ha="center" if abs(dx) < 0.4 else ("left" if dx > 0 else "right"),
+                        va="center" if abs(dy) < 0.4 else ("bottom" if dy > 0 else "top"),
+                        fontsize=fontsize, zorder=11, linespacing=1.0, annotation_clip=True,
+                        bbox={"boxstyle": "round,pad=0.12", "fc": "white", "ec": "0.3", "lw": 0.4,
+                              "alpha": 0.9})
+        placed.append(t.get_window_extent(ax.figure.canvas.get_renderer()).expanded(1.05, 1.1))
+
+
+def _north_arrow(fig) -> None:
+    """North arrow in the top-right margin, outside the map (the map's +y is north)."""
+    h = fig.get_figheight()
+    fig.text(0.94, 1 - 1.2 / h, "N", ha="center", va="bottom", fontsize=11, fontweight="bold")
+    fig.patches.append(_figure_arrow(fig, (0.94, 1 - 0.95 / h), (0.94, 1 - 0.2 / h)))
+
+
+def _figure_arrow(fig, start, end):
+    from matplotlib.patches import FancyArrowPatch
+
+    return FancyArrowPatch(start, end, transform=fig.transFigure, figure=fig,
+                           arrowstyle="-|>", mutation_scale=16, lw=1.6, color="black")
+
+
+def _scale_bar(ax, span: float, loc: str = "lower left") -> None:
+    from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar
+
+    length = _nice_length(span)
+    label = f"{length:g} m"
+    bar = AnchoredSizeBar(ax.transData, length, label, loc, pad=0.4, borderpad=0.5, sep=3,
+                          frameon=True, size_vertical=span * 0.006, color="black",
+                          fontproperties={"size": 8})
+    bar.patch.set_alpha(0.7)
+    bar.set_zorder(12)
+    ax.add_artist(bar)
+
+
+def _title_block(fig, lines: list[str]) -> None:
+    """Site name, then up to four lines of what the map shows; the caution at the foot."""
+    from siteexposure import __version__
+    from siteexposure.writers.cautions import ONE_LINE
+
+    h = fig.get_figheight()
+    fig.text(0.02, 1 - 0.12 / h, lines[0], ha="left", va="top", fontsize=12.5, fontweight="bold")
+    for k, text in enumerate(lines[1:5]):
+        fig.text(0.02, 1 - (0.42 + 0.205 * k) / h, text, ha="left", va="top", fontsize=8.8)
+    fig.text(0.02, 0.1 / h, f"{ONE_LINE}  (siteexposure {__version__})", ha="left", va="bottom",
+             fontsize=8, style="italic", color="0.15")
+
+
+def _legend(fig, ax, drawn: list[tuple[str, str]], extra_handles: list) -> None:
+    from matplotlib.lines import Line2D
+
+    handles = []
+    kinds = [k for k, _ in drawn]
+    extra = [lab for k, lab in drawn if k == "extra"]
+    for kind in ("occupational-limit", "general-limit", "occupational-10x", "extra"):
+        if kind in kinds:
+            ls, lw, text = STYLES[kind]
+            if kind == "extra":
+                text = "extra levels: " + ", ".join(extra)
+            handles.append(Line2D([], [], color="black", linestyle=ls, linewidth=lw,
+                                  path_effects=_halo(lw + 2.0), label=text))
+    if not kinds:
+        handles.append(Line2D([], [], color="none", label="no boundary level is reached in view"))
+    handles += extra_handles
+    box = ax.get_position()  # after apply_aspect: just below the x-axis label
+    y = box.y0 - 0.45 / fig.get_figheight()
+    fig.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.46, y), ncol=3,
+               fontsize=8, frameon=False, handlelength=3.2, columnspacing=1.6)
+
+
+def _hatch_patch(label: str = "not assessable by these models"):
+    from matplotlib.patches import Patch
+
+    return Patch(facecolor="none", edgecolor="0.25", hatch="////", label=label)
+
+
+def _colorbar(fig, ax, mesh, cax, what: str) -> None:
+    box, cbox = ax.get_position(), cax.get_position()
+    h = max(box.height, 2.7 / fig.get_figheight())
+    cax.set_position((cbox.x0, box.y1 - h, cbox.width, h))
+    cb = fig.colorbar(mesh, cax=cax, extend="both")
+    cb.set_label(f"exposure ratio to the {what} [dB]   (0 dB = at the limit)", fontsize=8.5)
+    cb.ax.tick_params(labelsize=8)
+    cb.set_ticks(np.arange(DB_RANGE[0], DB_RANGE[1] + 1, 10))
+    cb.ax.axhline(0.0, color="white", lw=2.5)
+    cb.ax.axhline(0.0, color="black", lw=1.0)
+
+
+def _new_figure(aspect: float):
+    """A figure sized for an equal-aspect map of ``aspect`` = height / width of the data.
+
+    Inches: 1.55 title block on top, the map 7.6 wide (1.6 to 6.4 high; the colour bar
+    at least 2.7), 1.35 below for the axis label, the legend and the caution.
+    """
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    width, map_w, top, bottom = 10.0, 7.6, 1.55, 1.35
+    map_h = float(np.clip(map_w * aspect, 1.6, 6.4))
+    height = top + max(map_h, 2.7) + bottom
+    fig = Figure(figsize=(width, height), dpi=_DPI)
+    FigureCanvasAgg(fig)
+    ax = fig.add_axes((0.8 / width, (height - top - map_h) / height, map_w / width, map_h / height))
+    ax.set_anchor("N")  # an equal-aspect map hangs just below the title block
+    cax = fig.add_axes((8.75 / width, (height - top - max(map_h, 2.7)) / height, 0.22 / width,
+                        max(map_h, 2.7) / height))
+    return fig, ax, cax
+
+
+def _limit_title(result: SiteResult, set_id: str) -> str:
+    src = result.limit_sources.get(set_id, {})
+    title = src.get("title") or src.get("publication") or ""
+    return f"Limits: {set_id}" + (f" ({title})" if title else "")
+
+
+# ---------------------------------------------------------------------------------------
+# plan of one area
+# ---------------------------------------------------------------------------------------
+
+
+def _view_of_area(site, area) -> tuple[np.ndarray, np.ndarray, list, list]:
+    """View box of an area's plan with the antennas and receptors near it."""
+    from shapely.geometry import Point, Polygon
+
+    outline = np.asarray(area.outline_en, dtype=float)
+    lo, hi = outline.min(axis=0), outline.max(axis=0)
+    reach = max(15.0, 0.75 * float(np.hypot(*(hi - lo))))
+    box = Polygon.from_bounds(lo[0] - reach, lo[1] - reach, hi[0] + reach, hi[1] + reach)
+    ants = [a for a in site.antennas if box.contains(Point(a.position_m[:2]))]
+    recs = [p for p in site.points if box.contains(Point(p.at_m[:2]))]
+    allp = np.vstack([outline] + [np.asarray(a.position_m[:2], float)[None] for a in ants]
+                     + [np.asarray(p.at_m[:2], float)[None] for p in recs])
+    vlo, vhi = allp.min(axis=0), allp.max(axis=0)
+    pad = 0.07 * float(max(vhi - vlo)) + 1.0
+    return vlo - pad, vhi + pad, ants, recs
+
+
+def _averaging_text(avg) -> str:
+    how = "mean" if avg.method == "vertical-line" else "peak"
+    return f"{how} of {avg.points} points {avg.bottom_m:g}-{avg.top_m:g} m above the floor"
+
+
+def _plan_figure(result: SiteResult, zones: list, ar, set_id: str):
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import PathPatch
+    from matplotlib.path import Path as MPath
+    from shapely.geometry import Polygon
+
+    site, area = result.site, ar.area
+    pop = area.population
+    outline = np.asarray(area.outline_en, dtype=float)
+    ring = np.vstack([outline, outline[:1]])
+    vlo, vhi, ants, recs = _view_of_area(site, area)
+    span = float(max(vhi - vlo))
+    fs = 7.5
+
+    fig, ax, cax = _new_figure(float((vhi[1] - vlo[1]) / (vhi[0] - vlo[0])))
+    ax.set_aspect("equal", adjustable="box")
+    ax.set_xlim(vlo[0], vhi[0])
+    ax.set_ylim(vlo[1], vhi[1])
+    ax.set_facecolor("0.93")
+    ax.set_xlabel("east of the site origin [m]", fontsize=9)
+    ax.set_ylabel("north of the site origin [m]", fontsize=9)
+    ax.tick_params(labelsize=8)
+    ax.grid(True, color="white", lw=0.6, zorder=0)
+    ax.apply_aspect()
+    placed: list = []
+
+    for other in site.areas:  # the other areas, for context (labelled later)
+        if other.name != area.name:
+            o = np.asarray(other.outline_en, dtype=float)
+            oring = np.vstack([o, o[:1]])
+            ax.plot(oring[:, 0], oring[:, 1], color="0.45", lw=0.9, zorder=3)
+
+    patch = PathPatch(MPath(ring, closed=True), fc="none", ec="none")
+    ax.add_patch(patch)
+    mesh = ax.pcolormesh(_edges(ar.east_m), _edges(ar.north_m), _db(ar.ratio[(set_id, pop)]),
+                         cmap=CMAP, vmin=DB_RANGE[0], vmax=DB_RANGE[1], shading="flat", zorder=2,
+                         rasterized=True)
+    mesh.set_clip_path(patch)
+    handles = []
+    na = [z for z in zones if z.area == area.name and z.set_id == set_id and z.kind == "not-assessable"]
+    for z in na:
+        _hatch_geometry(ax, z.geometry)
+    if na:
+        handles.append(_hatch_patch())
+    ax.plot(ring[:, 0], ring[:, 1], color="black", lw=2.2, zorder=7)
+
+    _draw_antennas_plan(ax, ants, span, fs, placed)
+    mid = 0.5 * (vlo[0] + vhi[0])
+    for p in recs:
+        ax.plot([p.at_m[0]], [p.at_m[1]], marker="s", ms=5, mfc="0.85", mec="black", zorder=10, ls="none")
+        right = p.at_m[0] <= mid
+        t = ax.annotate(p.name, xy=(p.at_m[0], p.at_m[1]), xytext=(6 if right else -6, 0),
+                        textcoords="offset points", ha="left" if right else "right",
+                        fontsize=fs - 0.5, va="center", zorder=11, annotation_clip=True)
+        placed.append(t.get_window_extent(fig.canvas.get_renderer()))
+    for other in site.areas:
+        if other.name != area.name:
+            _area_label(ax, other, f"{other.name}\n({other.access}, floor {other.floor_m:g} m)",
+                        fs - 0.5, placed)
+    specs = _boundary_specs(ar.ratio, set_id, pop, site.zone_levels)
+    drawn = _draw_boundaries(ax, ar.east_m, ar.north_m, specs, Polygon(outline), fs, placed)
+    _north_arrow(fig)
+    _scale_bar(ax, span)
+
+    handles += [Line2D([], [], color="black", lw=2.2, label=f"this area ({area.access} access)"),
+                Line2D([], [], marker="o", mfc="white", mec="black", ls="none",
+                       label="antenna, arrow = boresight azimuth")]
+    if recs:
+        handles.append(Line2D([], [], marker="s", mfc="0.85", mec="black", ls="none", label="receptor point"))
+    _legend(fig, ax, drawn, handles)
+    what = "general-public limit" if pop == "general" else "occupational limit"
+    _colorbar(fig, ax, mesh, cax, what)
+    summ = next((s for s in ar.summaries if s.set_id == set_id), None)
+    verdict = ""
+    if summ is not None:
+        mx = summ.max_exposure_ratio
+        verdict = (f"Highest exposure ratio in the area {mx:.3g} ({10 * math.log10(mx):+.1f} dB): {summ.verdict}"
+                   if np.isfinite(mx) and mx > 0 else f"Verdict: {summ.verdict}")
+        if summ.n_not_assessable:
+            verdict += f"; {summ.n_not_assessable} of {summ.n_points} grid points not assessable"
+    _title_block(fig, [
+        site.name,
+        f"Plan of {area.name}: {area.access} access, judged against the {what}; floor {area.floor_m:g} m above site ground",
+        f"{_limit_title(result, set_id)}; colour: {_averaging_text(site.averaging)}",
+        verdict,
+        "North is up (true north at the site origin); axes in metres from the site origin",
+    ])
+    return fig
+
+
+def _area_label(ax, area, text: str, fontsize: float, placed: list) -> None:
+    """Label an area inside its outline where it overlaps no other label (or not at all)."""
+    from shapely.geometry import Point, Polygon
+
+    poly = Polygon(np.asarray(area.outline_en, dtype=float))
+    x0, y0, x1, y1 = poly.bounds
+    rp = poly.representative_point()
+    cands = [(rp.x, rp.y)] + [(x0 + fx * (x1 - x0), y0 + fy * (y1 - y0))
+                              for fy in (0.5, 0.25, 0.75, 0.1, 0.9) for fx in (0.5, 0.3, 0.7, 0.15, 0.85)]
+    renderer = ax.figure.canvas.get_renderer()
+    frame = ax.get_window_extent(renderer)
+    for cx, cy in cands:
+        if not poly.contains(Point(cx, cy)):
+            continue
+        t = ax.text(cx, cy, text, fontsize=fontsize, color="0.3", ha="center", va="center",
+                    zorder=4, style="italic", clip_on=True)
+        bb = t.get_window_extent(renderer)
+        fits = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
+        if fits and not any(bb.overlaps(p) for p in placed):
+            placed.append(bb)
+            return
+        t.remove()
+
+
+def _hatch_geometry(ax, geom) -> None:
+    import shapely
+    from matplotlib.patches import PathPatch
+    from matplotlib.path import Path as MPath
+
+    for poly in shapely.get_parts(geom):
+        if poly.geom_type != "Polygon" or poly.is_empty:
+            continue
+        verts, codes = [], []
+        for ring in [poly.exterior, *poly.interiors]:
+            c = np.asarray(ring.coords)[:, :2]
+            verts.append(c)
+            codes += [MPath.MOVETO] + [MPath.LINETO] * (len(c) - 2) + [MPath.CLOSEPOLY]
+        ax.add_patch(PathPatch(MPath(np.vstack(verts), codes), fc="none", ec="0.25", lw=0.0,
+                               hatch="////", zorder=5))
+
+
+# ---------------------------------------------------------------------------------------
+# elevation cut through one antenna
+# ---------------------------------------------------------------------------------------
+
+
+def cut_extent(result: SiteResult, antenna_id: str) -> tuple[float, tuple[float, float], float]:
+    """Half width, height range and resolution of an antenna's elevation cut. [m]
+
+    Wide enough for the largest general-public keep-out distance along the boresight
+    (front or behind) and high enough for the one above and below, with the site's
+    floors in view; the resolution keeps the cut within :data:`CUT_POINT_BUDGET` points.
+    """
+    site = result.site
+    rec = next(r for r in result.antennas if r.antenna.id == antenna_id)
+    ant = rec.antenna
+    ko = [d for (_, pop), d in rec.keep_out_m.items() if pop == "general"]
+    horiz = max([max(d.get("front", 0.0), d.get("behind", 0.0)) for d in ko] + [0.0])
+    up = max([d.get("above", 0.0) for d in ko] + [0.0])
+    down = max([d.get("below", 0.0) for d in ko] + [0.0])
+    half = float(min(max(10.0, 1.3 * horiz + 2.0), CUT_MAX_HALF_M))
+    z0 = float(ant.position_m[2])
+    floors = [a.floor_m for a in site.areas] or [z0 - 3.0]
+    lo = max(0.0, min(min(floors) - 1.0, z0 - 1.3 * down - 1.0))
+    hi = max(z0 + 1.3 * up + 1.5, max(floors) + 3.0, z0 + 3.0)
+    lo, hi = _balanced(lo, hi, half)
+    return half, (lo, hi), _cut_resolution(half, lo, hi)
+
+
+def _balanced(lo: float, hi: float, half: float) -> tuple[float, float]:
+    """Grow a height range to at least 0.3 of the cut's width (readable maps). [m]"""
+    need = 0.3 * 2.0 * half
+    if hi - lo < need:
+        lo = max(0.0, lo - 0.5 * (need - (hi - lo)))
+        hi = lo + need
+    return lo, hi
+
+
+def _cut_resolution(half: float, lo: float, hi: float) -> float:
+    """Grid spacing that keeps a cut within :data:`CUT_POINT_BUDGET` points. [m]"""
+    return float(f"{max(0.05, math.sqrt(2 * half * (hi - lo) / CUT_POINT_BUDGET)):.2g}")
+
+
+def _free_text(ax, spots, text: str, fontsize: float, placed: list) -> bool:
+    """Write ``text`` at the first (x, y, va) spot where it overlaps nothing placed."""
+    renderer = ax.figure.canvas.get_renderer()
+    frame = ax.get_window_extent(renderer)
+    for x, y, va in spots:
+        t = ax.text(x, y, text, fontsize=fontsize, ha="center", va=va, zorder=8, clip_on=True,
+                    bbox={"boxstyle": "round,pad=0.12", "fc": "white", "ec": "none", "alpha": 0.8})
+        bb = t.get_window_extent(renderer)
+        fits = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
+        if fits and not any(bb.overlaps(p) for p in placed):
+            placed.append(bb)
+            return True
+        t.remove()
+    return False
+
+
+def _arrow_box(ax, start, end, pad: float = 4.0):
+    """Screen bounding box of an arrow (for label placement). [px]"""
+    from matplotlib.transforms import Bbox
+
+    a, b = ax.transData.transform(start), ax.transData.transform(end)
+    return Bbox.from_extents(min(a[0], b[0]) - pad, min(a[1], b[1]) - pad,
+                             max(a[0], b[0]) + pad, max(a[1], b[1]) + pad)
+
+
+def _adaptive_cut(result: SiteResult, sources, table, antenna_id: str, rounds: int = 3):
+    """The elevation cut of one antenna, widened until the general-public boundary of
+    the summed field (every set) closes inside it, or the width limit is reached.
+
+    :func:`cut_extent` starts from the antenna's own keep-out distances; co-located
+    antennas add up, so the sum can reach further.
+    """
+    from siteexposure.engine.sections import elevation_cut
+
+    half, (lo, hi), res = cut_extent(result, antenna_id)
+    for _ in range(rounds + 1):
+        cut = elevation_cut(result.site, sources, antenna_id, half_width_m=half,
+                            height_range_m=(lo, hi), resolution_m=res, table=table)
+        gen = [g for (_, pop), g in cut[2].items() if pop == "general"]
+        edge = any(np.nanmax(np.r_[g[:, 0], g[:, -1], -np.inf]) > 1.0 for g in gen)
+        top = any(np.nanmax(np.r_[g[-1, :], -np.inf]) > 1.0 for g in gen)
+        if not (edge or top) or half >= CUT_MAX_HALF_M:
+            return cut
+        if edge:
+            half = min(1.6 * half, CUT_MAX_HALF_M)
+        if top:
+            hi = lo + 1.4 * (hi - lo)
+        lo, hi = _balanced(lo, hi, half)
+        res = _cut_resolution(half, lo, hi)
+    return cut
+
+
+def _floors_on_cut(ax, site, ant, dist, z, fs, placed) -> bool:
+    """Floors the cut plane crosses, with the averaging band above them."""
+    import shapely
+    from shapely.geometry import LineString, Polygon
+
+    ue, un = azimuth_unit(ant.azimuth_deg)
+    e0, n0 = float(ant.position_m[0]), float(ant.position_m[1])
+    line = LineString([(e0 + dist[0] * ue, n0 + dist[0] * un), (e0 + dist[-1] * ue, n0 + dist[-1] * un)])
+    avg = site.averaging
+    any_floor = False
+    for area in site.areas:
+        inter = line.intersection(Polygon(np.asarray(area.outline_en, float)))
+        for seg in shapely.get_parts(inter):
+            if seg.geom_type != "LineString" or seg.length <= 0:
+                continue
+            c = np.asarray(seg.coords)
+            d = np.sort((c[:, 0] - e0) * ue + (c[:, 1] - n0) * un)
+            any_floor = True
+            ax.plot(d, [area.floor_m] * len(d), color="0.1", lw=3.0, solid_capstyle="butt", zorder=7)
+            if area.access != "none":
+                ax.fill_between(d, area.floor_m + avg.bottom_m, area.floor_m + avg.top_m, fc="none",
+                                ec="white", lw=0.8, ls=(0, (2, 2)), zorder=4)
+            _free_text(ax, [(float(np.mean(d)), area.floor_m - 0.012 * (z[-1] - z[0]), "top"),
+                            (float(np.mean(d)), area.floor_m + 0.012 * (z[-1] - z[0]), "bottom")],
+                       f"{area.name} ({area.access})", fs - 0.5, placed)
+    return any_floor
+
+
+def _antennas_on_cut(ax, site, ant, span, fs, placed) -> None:
+    """The cut antenna with its tilted boresight, and antennas within 1 m of the plane."""
+    ue, un = azimuth_unit(ant.azimuth_deg)
+    e0, n0 = float(ant.position_m[0]), float(ant.position_m[1])
+    for other in site.antennas:
+        off = np.asarray(other.position_m[:2], float) - (e0, n0)
+        d_along = float(off[0] * ue + off[1] * un)
+        d_perp = float(-off[0] * un + off[1] * ue)
+        main = other.id == ant.id
+        if not main and abs(d_perp) > 1.0:
+            continue
+        zc = float(other.position_m[2])
+        if main:
+            tilt = math.radians(float(ant.mechanical_tilt_deg) + float(ant.electrical_tilt_deg))
+            L = 0.08 * span
+            tip = (d_along + L * math.cos(tilt), zc - L * math.sin(tilt))
+            placed.append(_arrow_box(ax, (d_along, zc), tip))
+            ax.annotate("", xy=tip, xytext=(d_along, zc), zorder=9,
+                        arrowprops={"arrowstyle": "-|>", "color": "black", "lw": 1.3, "shrinkA": 0,
+                                    "shrinkB": 0, "mutation_scale": 10})
+        ax.plot([d_along], [zc], marker="o", ms=6 if main else 4.5, mfc="white", mec="black",
+                mew=1.0, zorder=10, ls="none")
+        if main:
+            t = ax.annotate(other.id, xy=(d_along, zc), xytext=(-8, 8), textcoords="offset points",
+                            ha="right", va="bottom", fontsize=fs + 0.5, fontweight="bold", zorder=11,
+                            bbox={"boxstyle": "round,pad=0.12", "fc": "white", "ec": "0.3", "lw": 0.4})
+            placed.append(t.get_window_extent(ax.figure.canvas.get_renderer()))
+
+
+def _elevation_figure(result: SiteResult, antenna_id: str, set_id: str, cut):
+    from matplotlib.lines import Line2D
+
+    site = result.site
+    ant = site.antenna(antenna_id)
+    dist, z, ratio = cut
+    rg = ratio[(set_id, "general")]
+    fs = 7.5
+    fig, ax, cax = _new_figure(float((z[-1] - z[0]) / (dist[-1] - dist[0])))
+    ax.set_aspect("equal", adjustable="box")
+    ax.set_facecolor("0.93")
+    mesh = ax.pcolormesh(_edges(dist), _edges(z), _db(rg), cmap=CMAP, vmin=DB_RANGE[0],
+                         vmax=DB_RANGE[1], shading="flat", zorder=2, rasterized=True)
+    ax.set_xlim(_edges(dist)[0], _edges(dist)[-1])
+    ax.set_ylim(_edges(z)[0], _edges(z)[-1])
+    ax.set_xlabel(f"distance along azimuth {ant.azimuth_deg:g} deg from below {ant.id} [m]"
+                  "   (negative = behind, positive = in front)", fontsize=9)
+    ax.set_ylabel("height above site ground [m]", fontsize=9)
+    ax.tick_params(labelsize=8)
+    ax.grid(True, color="white", lw=0.6, zorder=0)
+    ax.apply_aspect()
+    placed: list = []
+    handles = []
+    bad = ~np.isfinite(rg)
+    if bad.any():
+        ax.contourf(dist, z, bad.astype(float), levels=[0.5, 1.5], colors="none", hatches=["////"], zorder=5)
+        handles.append(_hatch_patch())
+    span = float(max(dist[-1] - dist[0], z[-1] - z[0]))
+    floors = _floors_on_cut(ax, site, ant, dist, z, fs, placed)
+    _antennas_on_cut(ax, site, ant, span, fs, placed)
+    drawn = _draw_boundaries(ax, dist, z, _boundary_specs(ratio, set_id, "general", site.zone_levels),
+                             None, fs, placed)
+    _scale_bar(ax, float(dist[-1] - dist[0]), loc="upper left")
+    handles.append(Line2D([], [], marker="o", mfc="white", mec="black", ls="none",
+                          label="antenna, arrow = boresight with downtilt"))
+    if floors:
+        handles += [Line2D([], [], color="0.1", lw=3.0, label="floor crossed by the cut"),
+                    Line2D([], [], color="0.6", lw=0.8, ls=(0, (2, 2)),
+                           label=f"averaging heights {site.averaging.bottom_m:g}-{site.averaging.top_m:g} m")]
+    _legend(fig, ax, drawn, handles)
+    _colorbar(fig, ax, mesh, cax, "general-public limit")
+    tilt = float(ant.mechanical_tilt_deg) + float(ant.electrical_tilt_deg)
+    _title_block(fig, [
+        site.name,
+        f"Elevation cut through {ant.id} ({ant.operator}, {ant.frequency_mhz:g} MHz): vertical plane of its "
+        f"boresight azimuth {ant.azimuth_deg:g} deg, downtilt {tilt:g} deg",
+        f"{_limit_title(result, set_id)}",
+        "Colour: point values, all antennas summed, no spatial averaging; boresight to the right",
+        "Lines on the occupational grid (solid, dash-dot) and the general-public grid (dashed, dotted)",
+    ])
+    return fig
+
+
+# ---------------------------------------------------------------------------------------
+# saving
+# ---------------------------------------------------------------------------------------
+
+
+def _save(fig, path: Path, fmt: str) -> Path:
+    import matplotlib
+
+    from siteexposure.atomic import atomic_path
+
+    rc = {"svg.hashsalt": "siteexposure-maps", "svg.fonttype": "none", "svg.image_inline": True}
+    meta = {"svg": {"Date": None, "Creator": "siteexposure"}, "png": {"Software": None}}.get(fmt, {})
+    with matplotlib.rc_context(rc), atomic_path(path) as tmp:
+        fig.savefig(tmp, format=fmt, dpi=_DPI, metadata=meta)
+    return path
+
+
+def render_maps(
+    result: SiteResult,
+    zones: list,
+    out_dir: Path | str,
+    formats: Sequence[str] = ("png", "svg"),
+    *,
+    progress: Callable[[int, int, str], None] | None = None,
+) -> list[Path]:
+    """Write the plan of every evaluated area and the elevation cut of every antenna.
+
+    Parameters
+    ----------
+    result : SiteResult
+    zones : list of Zone
+        From :func:`siteexposure.engine.zones.compute_zones` (not-assessable parts).
+    out_dir : path
+        Folder to write into (created if needed).
+    formats : sequence of {"png", "svg"}
+    progress : callable, optional
+        Called as ``progress(done, total, label)`` after each map.
+
+    Returns
+    -------
+    list of Path
+        The files written, plans first, in a fixed order.
+    """
+    from siteexposure.atomic import check_writable_dir
+    from siteexposure.engine.combos import build_combos
+    from siteexposure.engine.orchestrator import build_sources, load_limit_sets
+    from siteexposure.errors import OutputError
+
+    formats = tuple(formats)
+    for f in formats:
+        if f not in ("png", "svg"):
+            raise OutputError(f"map format {f!r}: expected png or svg")
+    out = check_writable_dir(Path(out_dir))
+    site = result.site
+    plans = [(i, ar) for i, ar in enumerate(result.areas) if ar.evaluated and ar.ratio and ar.area.population]
+    total = len(plans) * len(site.limits) + len(site.antennas) * len(site.limits)
+    done, written = 0, []
+    for i, ar in plans:
+        for set_id in site.limits:
+            fig = _plan_figure(result, zones, ar, set_id)
+            stem = map_file_stem("plan", i + 1, ar.area.name, set_id)
+            written += [_save(fig, out / f"{stem}.{f}", f) for f in formats]
+            done += 1
+            if progress:
+                progress(done, total, stem)
+    if site.antennas:
+        sources, _ = build_sources(site)
+        table = build_combos(load_limit_sets(site), site.antennas)
+        for k, ant in enumerate(site.antennas):
+            cut = _adaptive_cut(result, sources, table, ant.id)
+            for set_id in site.limits:
+                fig = _elevation_figure(result, ant.id, set_id, cut)
+                stem = map_file_stem("elevation", k + 1, ant.id, set_id)
+                written += [_save(fig, out / f"{stem}.{f}", f) for f in formats]
+                done += 1
+                if progress:
+                    progress(done, total, stem)
+    return written
