@@ -452,3 +452,16 @@ def test_command_line_prints_one_error_line_and_exits_2(tmp_path):
     lines = out.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("Error: ") and "Traceback" not in out.stderr
     assert 'antenna "A1" > activity = 1.5' in lines[0]
+
+
+def test_pattern_file_far_from_its_frequency_warns(tmp_path):
+    text = edit("frequency_mhz = 1950", "frequency_mhz = 3500")  # panel file is for 1950 MHz
+    with pytest.warns(SiteExposureWarning, match=r'antenna "A1": frequency_mhz = 3500 is far'):
+        read_site(write_site(tmp_path, text))
+
+
+def test_area_smaller_than_a_grid_cell_warns(tmp_path):
+    text = BASE + '\n[[area]]\nname = "Hatch"\naccess = "worker"\nfloor_m = 0\n' \
+                  'outline = [[0, 0], [0.3, 0], [0.3, 0.3]]\n'
+    with pytest.warns(SiteExposureWarning, match=r'area "Hatch": the outline .* smaller than one'):
+        read_site(write_site(tmp_path, text))

@@ -20,6 +20,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from siteexposure.errors import InputError
 from siteexposure.geo import LocalFrame
@@ -119,6 +121,24 @@ def test_round_trip_local_lonlat_local(lat0):
     lon2, lat2 = frame.to_lonlat(east, north)
     np.testing.assert_allclose(lon2, lon, rtol=0.0, atol=1e-11)
     np.testing.assert_allclose(lat2, lat, rtol=0.0, atol=1e-11)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    lat0=st.floats(-85.0, 85.0),
+    lon0=st.floats(-180.0, 180.0),
+    east=st.floats(-5000.0, 5000.0),
+    north=st.floats(-5000.0, 5000.0),
+)
+def test_any_origin_and_offset_round_trip_and_match_the_geodesic(lat0, lon0, east, north):
+    """For any origin and any offset within 5 km: round trip to 1 um, and the geodesic
+    distance from the origin (pyproj.Geod.inv) equals hypot(east, north) to 1 um."""
+    frame = LocalFrame(lat0, lon0)
+    lon, lat = frame.to_lonlat(east, north)
+    e2, n2 = frame.from_lonlat(lon, lat)
+    assert abs(e2 - east) < TOL_M and abs(n2 - north) < TOL_M
+    _, _, dist = pyproj.Geod(ellps="WGS84").inv(lon0, lat0, lon, lat)
+    assert abs(dist - math.hypot(east, north)) < TOL_M
 
 
 def test_scalars_give_floats_and_origin_maps_to_zero():
