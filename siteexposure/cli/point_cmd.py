@@ -36,8 +36,6 @@ def point(
         obj["cautions"] = list(CAUTIONS)
         typer.echo(dumps(obj), nl=False)
         return
-    from rich.console import Console
+    from siteexposure.writers.summary import make_console, print_point
 
-    from siteexposure.writers.summary import print_point
-
-    print_point(res, Console())
+    print_point(res, make_console())

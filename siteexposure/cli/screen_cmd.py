@@ -29,10 +29,8 @@ def screen(
 
         typer.echo(dumps(site_dict(res)), nl=False)
     else:
-        from rich.console import Console
+        from siteexposure.writers.summary import make_console, print_site
 
-        from siteexposure.writers.summary import print_site
-
-        print_site(res, Console())
+        print_site(res, make_console())
     if res.exceeded_where_reachable:
         raise typer.Exit(1)

@@ -8,7 +8,8 @@ Exposure ratios are linear in transmitter power, so power remedies are exact:
 - one operator alone needs ``R_rest + k R_op <= 1`` at every point.
 
 The height remedy raises the dominant antennas (those contributing at least 5 % of the
-limit at the worst point) together and scans the extra height in steps, re-evaluating
+limit at the worst point) together — or, when the other antennas alone still exceed
+somewhere, every antenna of the site (the whole mount) — and scans the extra height, re-evaluating
 the area (on a subsample of at most :data:`HEIGHT_SCAN_POINTS` lines); it is a search,
 not a formula, and reports "not found" when no height up to the search limit works.
 """
@@ -89,6 +90,10 @@ def _mitigate(site, ar: AreaResult, summ: AreaSummary, cols, sources, table, hei
         max(summ.antenna_share, key=summ.antenna_share.get),
     )
     extra = _height_scan(ar, summ, cols, sources, table, rows, reducers, heights, set(dominant))
+    if extra is None and len(dominant) < len(sources):
+        # the other antennas alone still exceed somewhere: raise the whole mount instead
+        dominant = tuple(src.id for src in sources)
+        extra = _height_scan(ar, summ, cols, sources, table, rows, reducers, heights, set(dominant))
     return Mitigation(
         uniform_reduction_db=uniform,
         responsible_reduction_db=responsible,
@@ -100,7 +105,13 @@ def _mitigate(site, ar: AreaResult, summ: AreaSummary, cols, sources, table, hei
 
 
 def _height_scan(ar, summ, cols, sources, table, rows, reducers, heights, moved: set[str]) -> float | None:
-    """Smallest extra height (step HEIGHT_STEP_M) of ``moved`` that brings the area to R <= 1."""
+    """Smallest extra height of ``moved`` that brings every assessable line of the area to R <= 1.
+
+    Scanned in 1 m steps up to :data:`HEIGHT_LIMIT_M`, then refined by bisection to
+    0.1 m and rounded up. Lines that other (static) antennas make not assessable stay
+    so whatever the height and are left out; a raised antenna whose reactive zone still
+    reaches a line does not count as a fix.
+    """
     if len(cols) > HEIGHT_SCAN_POINTS:
         cols = cols[:: int(math.ceil(len(cols) / HEIGHT_SCAN_POINTS))]
     floor = ar.area.floor_m
@@ -108,18 +119,28 @@ def _height_scan(ar, summ, cols, sources, table, rows, reducers, heights, moved:
     sub_rows = [reducers[r] for r in rows]
     w_static = table.weights[rows] * np.array([s.id in static_ids for s in sources], float)[None, :]
     r_static = column_ratios(sources, cols, floor, heights, w_static, sub_rows)
-    if np.any(np.nan_to_num(r_static.max(axis=0)) > 1.0):
+    keep = np.all(np.isfinite(r_static), axis=0)
+    if np.any(r_static[:, keep] > 1.0):
         return None
     moved_idx = [n for n, s in enumerate(sources) if s.id in moved]
-    for dh in np.arange(HEIGHT_STEP_M, HEIGHT_LIMIT_M + 1e-9, HEIGHT_STEP_M):
+    w_moved = table.weights[rows][:, moved_idx]
+
+    def complies(dh: float) -> bool:
         raised = []
         for n in moved_idx:
             src = sources[n]
             pos = np.asarray(src.radiator.position_m, float) + np.array([0.0, 0.0, dh])
             raised.append(Source(src.id, dataclasses.replace(src.radiator, position_m=pos), src.choice))
-        w_moved = table.weights[rows][:, moved_idx]
-        r_moved = column_ratios(raised, cols, floor, heights, w_moved, sub_rows)
-        total = r_static + r_moved
-        if np.all(np.isfinite(total)) and np.all(total.max(axis=0) <= 1.0):
-            return float(dh)
+        r_moved = column_ratios(raised, cols[keep], floor, heights, w_moved, sub_rows)
+        total = r_static[:, keep] + r_moved
+        return bool(np.all(np.isfinite(total)) and np.all(total <= 1.0))
+
+    lo = 0.0
+    for hi in np.arange(1.0, HEIGHT_LIMIT_M + 1e-9, 1.0):
+        if complies(float(hi)):
+            for _ in range(4):
+                mid = 0.5 * (lo + hi)
+                lo, hi = (mid, hi) if not complies(mid) else (lo, mid)
+            return math.ceil(hi * 10.0 - 1e-9) / 10.0
+        lo = float(hi)
     return None

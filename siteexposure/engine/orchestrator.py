@@ -283,7 +283,11 @@ def evaluate_point(site: Site, at_m, *, name: str = "point", access: str = "publ
 
 
 def _keep_out(sources, records, table: ComboTable) -> None:
-    """Per-antenna compliance boundaries against each set's whole-body limit."""
+    """Per-antenna compliance boundaries against each set's whole-body limit.
+
+    Each distance is at least the antenna's reactive-near-field radius: the models cannot
+    assess points closer than that, so they are keep-out whatever the field estimate says.
+    """
     from siteexposure.physics.sources import keep_out_distances
 
     for n, (src, rec) in enumerate(zip(sources, records, strict=True)):
@@ -293,4 +297,8 @@ def _keep_out(sources, records, table: ComboTable) -> None:
             limit = float(table.limits_w_m2[i, n])
             key = (combo.set_id, combo.population)
             rec.limit_w_m2[key] = limit
-            rec.keep_out_m[key] = {k: float(v) for k, v in keep_out_distances(src.radiator, src.choice, limit).items()}
+            # inside the reactive radius nothing is assessable: it is keep-out whatever the model says
+            rec.keep_out_m[key] = {
+                k: max(float(v), rec.reactive_radius_m)
+                for k, v in keep_out_distances(src.radiator, src.choice, limit).items()
+            }

@@ -8,6 +8,14 @@ from siteexposure.engine.result import PointResult, SiteResult
 from siteexposure.writers.cautions import CAUTIONS
 
 
+def make_console():
+    """A rich console on stdout: the terminal's width, or 140 columns when piped."""
+    from rich.console import Console
+
+    probe = Console()
+    return probe if probe.is_terminal else Console(width=140)
+
+
 def _ratio(x: float | None) -> str:
     if x is None or not math.isfinite(x):
         return "n/a"
@@ -106,7 +114,8 @@ def print_site(res: SiteResult, console) -> None:
             m = s.mitigation
             t.add_row(ar.area.name, s.set_id, f"{m.uniform_reduction_db:.1f}",
                       "n/a" if m.responsible_reduction_db is None else f"{m.responsible_reduction_db:.1f}",
-                      ", ".join(m.raised_antennas),
+                      "all antennas (the whole mount)" if len(m.raised_antennas) == len(res.antennas) > 1
+                      else ", ".join(m.raised_antennas),
                       f"> {m.height_search_limit_m:g} / not found" if m.extra_height_m is None else f"{m.extra_height_m:.1f}")
         console.print(t)
 
