@@ -37,12 +37,12 @@ def demo(
     site_path = resources.sample_sites_dir() / DEMO_SITE
     check_writable_dir(out)
     site = read_site(site_path)
-    console.print(f"Demo: the invented sample site {site_path}")
+    console.print(f"Demo: the invented sample site {site_path}", soft_wrap=True)
     res = evaluate_site(site, progress=not no_progress)
     print_site(res, console)
-    written = build_report(res, out / DEMO_REPORT, with_maps=True)
+    written = build_report(res, out / DEMO_REPORT, with_maps=True, progress=not no_progress)
     console.print()
-    console.print(f"[bold]Demo files in {out.resolve()}[/bold]")
+    console.print(f"[bold]Demo files in {out.resolve()}[/bold]", soft_wrap=True)
     for p in written:
-        console.print(f"  {p}")
-    console.print(f"Open the report: {(out / DEMO_REPORT).resolve()}")
+        console.print(f"  {p}", soft_wrap=True, highlight=False)
+    console.print(f"Open the report: {(out / DEMO_REPORT).resolve()}", soft_wrap=True)

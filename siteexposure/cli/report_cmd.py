@@ -8,6 +8,8 @@ exit status 2 and no PDF.
 
 from __future__ import annotations
 
+import contextlib
+from collections.abc import Iterator
 from pathlib import Path
 
 import typer
@@ -41,7 +43,29 @@ def check_output_path(out: Path, site) -> Path:
     return out
 
 
-def build_report(res, out: Path, *, with_maps: bool) -> list[Path]:
+@contextlib.contextmanager
+def map_progress(enabled: bool) -> Iterator:
+    """A progress bar on stderr (rich, when it is a terminal) fed by the map renderer's
+    ``progress(done, total, label)`` callback; None when disabled."""
+    if not enabled:
+        yield None
+        return
+    from rich.console import Console
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
+
+    console = Console(stderr=True)
+    with Progress(TextColumn("maps"), BarColumn(), MofNCompleteColumn(),
+                  TextColumn("{task.description}"), console=console, transient=True,
+                  disable=not console.is_terminal) as bar:
+        task = bar.add_task("", total=None)
+
+        def tick(done: int, total: int, label: str) -> None:
+            bar.update(task, completed=done, total=total, description=label)
+
+        yield tick
+
+
+def build_report(res, out: Path, *, with_maps: bool, progress: bool = False) -> list[Path]:
     """Zones, maps (and GIS files with ``with_maps``) and the PDF of an evaluated site.
 
     Returns the files written: the PDF last.
@@ -55,13 +79,15 @@ def build_report(res, out: Path, *, with_maps: bool) -> list[Path]:
     if with_maps:
         from siteexposure.writers.bundle import write_all_outputs
 
-        written = list(write_all_outputs(res, zones, out.parent))
+        with map_progress(progress) as tick:
+            written = list(write_all_outputs(res, zones, out.parent, progress=tick))
         maps = [p for p in written if Path(p).suffix.lower() == ".png"]
         return [*written, write_report(res, zones, out, map_files=maps)]
     from siteexposure.writers.maps import render_maps
 
     with tempfile.TemporaryDirectory(prefix="siteexposure-maps-") as tmp:
-        maps = render_maps(res, zones, Path(tmp), formats=("png",))
+        with map_progress(progress) as tick:
+            maps = render_maps(res, zones, Path(tmp), formats=("png",), progress=tick)
         return [write_report(res, zones, out, map_files=maps)]
 
 
@@ -82,7 +108,7 @@ def report(
     site = read_site(site_file)
     check_output_path(out, site)
     res = evaluate_site(site, progress=not no_progress)
-    written = build_report(res, out, with_maps=with_maps)
+    written = build_report(res, out, with_maps=with_maps, progress=not no_progress)
     for p in written:
         typer.echo(f"wrote {p}")
     typer.echo(ONE_LINE)

@@ -132,7 +132,7 @@ def traceability(ctx: ReportContext) -> list:
     if site.input_files:
         rows = [[path, digest] for path, digest in site.input_files]
         out.append(table(["file (site file first, then pattern files)", "SHA-256"], rows,
-                         [3.7, 5.3], ctx.width, mono_cols=(0, 1)))
+                         [4.4, 4.6], ctx.width, mono_cols=(0, 1)))
     else:
         out.append(para("No input files recorded (site built in Python)."))
     out.append(para("Pattern source of each antenna", "H2"))
@@ -144,7 +144,7 @@ def traceability(ctx: ReportContext) -> list:
     for sid in data["site"]["limits"]:
         src = data["limit_sources"].get(sid, {})
         rows.append([sid, src.get("file", ""), src.get("sha256", "")])
-    out.append(table(["id", "file", "SHA-256"], rows, [1.0, 2.7, 5.3], ctx.width,
+    out.append(table(["id", "file", "SHA-256"], rows, [1.0, 3.4, 4.6], ctx.width,
                      mono_cols=(1, 2)))
     out.append(para("Sources: see the limit-table list in section 3; each file cites its "
                     "publication, edition and tables.", "small"))

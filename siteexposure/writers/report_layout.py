@@ -72,7 +72,7 @@ def styles() -> dict:
         "cell": ParagraphStyle("cell", parent=base, fontSize=7.5, leading=9.2, spaceAfter=0),
         "cellhead": ParagraphStyle("cellhead", parent=base, fontName=FONT_BOLD, fontSize=7.5,
                                    leading=9.2, spaceAfter=0),
-        "mono": ParagraphStyle("mono", parent=base, fontName=FONT_MONO, fontSize=6.8, leading=8.6,
+        "mono": ParagraphStyle("mono", parent=base, fontName=FONT_MONO, fontSize=6.4, leading=8.2,
                                spaceAfter=0),
         "bullet": ParagraphStyle("bullet", parent=base, leftIndent=12, bulletIndent=2),
         "status": ParagraphStyle("status", parent=base, fontName=FONT_BOLD, fontSize=10.5,

@@ -95,6 +95,14 @@ def _document(target: Path, site_name: str):
     from reportlab.platypus import BaseDocTemplate, Frame, PageTemplate
 
     class ReportDoc(BaseDocTemplate):
+        #: build passes so far (multiBuild lays the story out again until the contents list
+        #: has its page numbers; images need drawing only from the second pass on)
+        passes = 0
+
+        def build(self, *args, **kwargs):
+            self.passes += 1
+            return super().build(*args, **kwargs)
+
         def afterFlowable(self, flowable):  # noqa: N802 (reportlab's name)
             style = getattr(flowable, "style", None)
             if style is not None and style.name == "H1":
@@ -165,6 +173,7 @@ def write_report(
     OutputError
         When the file cannot be written.
     """
+    from reportlab import rl_config
     from reportlab.platypus import CondPageBreak
     from reportlab.platypus.doctemplate import LayoutError
 
@@ -195,8 +204,12 @@ def write_report(
         for section in (summary, inputs, method, results, mitigation, cautions):
             story += [*section(ctx), CondPageBreak(SECTION_BREAK_SHARE * doc.height)]
         story += [*signoff(ctx), *traceability(ctx)]
+        saved_a85 = rl_config.useA85
+        rl_config.useA85 = 0  # binary streams: smaller, and no slow text encoding of images
         try:
             doc.multiBuild(story, canvasmaker=_numbered_canvas(site_name))
         except LayoutError as exc:
             raise OutputError(f"report '{target}': the layout failed ({exc})") from exc
+        finally:
+            rl_config.useA85 = saved_a85
     return target

@@ -1,5 +1,8 @@
 """The results and mitigation sections of the PDF report.
 
+Imported by :func:`siteexposure.writers.report_pdf.write_report` only (it needs
+reportlab, so ``import siteexposure`` never loads it).
+
 Results: area verdicts per limit set, plan maps and elevation cuts, per-antenna keep-out
 distances, contributions at the worst points, receptors, zone areas and barrier lengths.
 Mitigation: power and height remedies for failing areas, barrier placement, and the
@@ -11,12 +14,16 @@ from __future__ import annotations
 import io
 from pathlib import Path
 
+from reportlab.platypus import Image
+
 from siteexposure.writers.json_out import _num as json_round
 from siteexposure.writers.report_context import ReportContext, zone_rows
 from siteexposure.writers.report_layout import bullets, jnum, jpct, metres, para, table, triple
 from siteexposure.writers.report_sections import heading
 
 KEEP_OUT_KEYS = ("front", "behind", "left", "right", "above", "below")
+#: contributions below this share of an area's total are summed in one row
+MINOR_SHARE = 0.01
 #: largest share of the frame height a plan map, and an elevation cut, may take (two cuts
 #: fit on one page)
 PLAN_HEIGHT_SHARE = 0.62
@@ -77,17 +84,26 @@ def _trimmed_png(path: Path) -> tuple[io.BytesIO, int, int]:
 
 def _image(ctx: ReportContext, path: Path, share: float):
     """The map scaled to the frame width, or down to ``share`` of the frame height."""
-    from reportlab.platypus import Image
-
     data, w_px, h_px = _trimmed_png(path)
     w = ctx.width
     h = w * h_px / w_px
     h_max = ctx.height * share
     if h > h_max:
         w, h = w * h_max / h, h_max
-    img = Image(data, width=w, height=h)
+    img = _MapImage(data, width=w, height=h)
     img.hAlign = "CENTER"
     return img
+
+
+class _MapImage(Image):
+    """An image that is laid out but not drawn in the first layout pass (the contents
+    list forces a second pass, whose pages are the ones kept): halves the image work."""
+
+    def draw(self):
+        doc = getattr(self.canv, "_doctemplate", None)
+        if getattr(doc, "passes", 2) == 1:
+            return
+        super().draw()
 
 
 def _maps(ctx: ReportContext, elevation: bool, intro: list) -> list:
@@ -150,16 +166,23 @@ def _contribution_table(ctx: ReportContext) -> list:
     rows = []
     for a in ctx.evaluated_areas():
         for b in a["by_limits"]:
-            for aid, v in sorted(b["antenna_share"].items(), key=lambda kv: -(kv[1] or 0)):
-                if v is None or v <= 0:
-                    continue
+            shares = sorted(((k, v) for k, v in b["antenna_share"].items() if v),
+                            key=lambda kv: -kv[1])
+            total = sum(v for _, v in shares)
+            listed = [(k, v) for k, v in shares if v >= MINOR_SHARE * total]
+            for aid, v in listed:
                 rows.append([a["name"], b["limits"], aid, ops.get(aid, ""), jnum(v),
+                             jpct(json_round(100 * v))])
+            rest = [v for _, v in shares[len(listed):]]
+            if rest:
+                v = json_round(sum(rest))
+                rows.append([a["name"], b["limits"], f"{len(rest)} others", "together", jnum(v),
                              jpct(json_round(100 * v))])
     if not rows:
         return [para("No contributions to report.")]
-    return [para("Exposure ratio each antenna contributes at the worst point of each area "
-                 "(largest first; antennas contributing nothing there are left out). They add up "
-                 "to the area's maximum exposure ratio."),
+    return [para("Exposure ratio each antenna contributes at the worst point of each area, largest "
+                 f"first. Antennas below {100 * MINOR_SHARE:g} % of the total there are summed in "
+                 "one row; the rows add up to the area's maximum exposure ratio."),
             table(["area", "limit set", "antenna", "operator", "exposure ratio", "% of limit"],
                   rows, [2.2, 1.2, 1.0, 2.0, 1.2, 1.2], ctx.width, right_cols=(4, 5))]
 

@@ -6,6 +6,8 @@ returns a list of reportlab flowables. Numbers come from the JSON form of the re
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from siteexposure.writers.cautions import STATUS_LINE
 from siteexposure.writers.json_out import _num as json_round
 from siteexposure.writers.report_context import ACCESS_WORDS, POPULATION_WORDS, ReportContext
@@ -108,8 +110,9 @@ def _area_words(ctx: ReportContext, a: dict) -> list:
                      f"the limit ({short(b['percent_of_limit'])} % of the limit), {_where(b)}. ")
         if b["verdict"] == "exceeds":
             ops = ", ".join(_esc(o) for o in b["responsible_operators"]) or "none identified"
-            text += ("<b>This is above the limit.</b> People of this group must be kept out of "
-                     "the zones shown in the Results section until a remedy is in place. "
+            text += ("<b>This is above the limit.</b> Until a licensed reviewer decides "
+                     "otherwise, keep people of this group out of the zones shown in the Results "
+                     "section, and see the Mitigation section for remedies. "
                      f"Operators sharing responsibility (each at least 5 % of the limit there): "
                      f"{ops}.")
         elif b["verdict"] == "not assessable":
@@ -212,10 +215,24 @@ def _aperture(ant) -> str:
         return f"dish Ø {jnum(json_round(ant.diameter_m))} m"
     parts = []
     if ant.aperture_height_m:
-        parts.append(f"height {jnum(json_round(ant.aperture_height_m))} m")
+        parts.append(f"H {jnum(json_round(ant.aperture_height_m))} m")
     if ant.aperture_width_m:
-        parts.append(f"width {jnum(json_round(ant.aperture_width_m))} m")
-    return ", ".join(parts) or "not given"
+        parts.append(f"W {jnum(json_round(ant.aperture_width_m))} m")
+    return " × ".join(parts) or "not given"
+
+
+def pattern_source_text(site, ant) -> str:
+    """The pattern source, a file path shown relative to the site file's folder."""
+    src = ant.pattern_source or "not recorded"
+    files = {p for p, _ in site.input_files}
+    if src in files and site.source_path is not None:
+        import os
+
+        try:
+            return os.path.relpath(src, Path(site.source_path).parent)
+        except ValueError:  # another drive (Windows)
+            return src
+    return src
 
 
 def inputs(ctx: ReportContext) -> list:
@@ -239,11 +256,11 @@ def inputs(ctx: ReportContext) -> list:
         j = jant[ant.id]
         rows.append([ant.id, triple(j["position_m"]), jnum(j["azimuth_deg"]),
                      f"{jnum(j['mechanical_tilt_deg'])} / {jnum(j['electrical_tilt_deg'])}",
-                     _aperture(ant), ant.pattern_source or "not recorded",
+                     _aperture(ant), pattern_source_text(site, ant),
                      f"{j['model']['id']}: {j['model']['reason']}"])
     out.append(table(["id", "radiation centre E, N, height (m)", "azimuth (°)",
                       "tilt mech. / elec. (° down)", "aperture", "pattern source",
-                      "model used and why"], rows, [0.7, 1.5, 0.8, 1.0, 1.2, 2.0, 3.0], ctx.width))
+                      "model used and why"], rows, [0.6, 1.3, 0.8, 0.9, 1.2, 1.9, 3.3], ctx.width))
     out.append(para("Areas", "H2"))
     rows = []
     for area in site.areas:
