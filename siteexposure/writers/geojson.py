@@ -118,6 +118,8 @@ def feature_collection(result: SiteResult, zones: list) -> dict[str, Any]:
     * ``receptor``: Point; ``name``, ``access``, ``height_m``, ``assessable``,
       ``exposure`` (per set and population; null where not assessable).
     """
+    from shapely.geometry import Polygon
+
     from siteexposure import __version__
     from siteexposure.geo import LocalFrame
     from siteexposure.writers.cautions import CAUTIONS, STATUS_LINE
@@ -135,8 +137,6 @@ def feature_collection(result: SiteResult, zones: list) -> dict[str, Any]:
             "category": z.category_name, "sign_word": z.sign_word, "area": z.area,
             "access": z.access, "floor_m": z.floor_m, "area_m2": round(float(z.area_m2), 3),
         }, f"zone-{n + 1}"))
-    from shapely.geometry import Polygon
-
     for n, area in enumerate(site.areas):
         g = geometry_dict(frame, Polygon(np.asarray(area.outline_en, float)))
         if g is not None:
@@ -173,5 +173,12 @@ def write_geojson(result: SiteResult, zones: list, path: Path | str) -> Path:
     """Write :func:`feature_collection` to ``path`` atomically (UTF-8 JSON) and return it."""
     from siteexposure.atomic import write_text
 
-    text = json.dumps(feature_collection(result, zones), ensure_ascii=False, indent=1, allow_nan=False)
-    return write_text(path, text + "\n")
+    fc = feature_collection(result, zones)
+
+    def dump(obj) -> str:
+        return json.dumps(obj, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+
+    # one feature a line: compact, and a change to one feature is one changed line
+    head = {k: v for k, v in fc.items() if k != "features"}
+    text = dump(head)[:-1] + ',"features":[\n' + ",\n".join(dump(f) for f in fc["features"]) + "\n]}\n"
+    return write_text(path, text)
