@@ -144,7 +144,7 @@ def _try_label(ax, piece: np.ndarray, text: str, frac: float, fontsize: float, p
     bb = txt.get_window_extent(renderer).expanded(1.08, 1.15)
     frame = ax.get_window_extent(renderer)
     inside = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
-    if not inside or any(bb.overlaps(p) for p in placed):
+    if not inside or _overlaps_any(bb, placed):
         txt.remove()
         return False
     placed.append(bb)
@@ -208,20 +208,41 @@ def _boundary_specs(ratio: dict, set_id: str, own_population: str, extra: Sequen
 # ---------------------------------------------------------------------------------------
 
 
-def _clusters(items: list[tuple[str, float, float]], radius: float) -> list[list[int]]:
-    """Groups of items (id, x, y) closer than ``radius`` to a member (single linkage)."""
+def _clusters(antennas, radius: float, same_az_deg: float = 10.0) -> list[list[int]]:
+    """Groups of antennas that share one label: closer than ``radius`` to a member of the
+    group and pointing the same way (within ``same_az_deg``); single linkage."""
+    def near(i, j):
+        a, b = antennas[i], antennas[j]
+        d_az = abs((float(a.azimuth_deg) - float(b.azimuth_deg) + 180.0) % 360.0 - 180.0)
+        dist = math.hypot(*(np.asarray(a.position_m[:2], float) - np.asarray(b.position_m[:2], float)))
+        return dist < radius and d_az <= same_az_deg
+
     groups: list[list[int]] = []
-    for i, (_, x, y) in enumerate(items):
-        near = [g for g in groups if any(math.hypot(x - items[j][1], y - items[j][2]) < radius for j in g)]
-        merged = [i] + [j for g in near for j in g]
-        groups = [g for g in groups if g not in near] + [sorted(merged)]
+    for i in range(len(antennas)):
+        joined = [g for g in groups if any(near(i, j) for j in g)]
+        groups = [g for g in groups if g not in joined] + [sorted([i, *(j for g in joined for j in g)])]
     return sorted(groups)
 
 
+def _label_spots(ue: float, un: float, arrow_pt: float, dist_pt: float = 11.0):
+    """Offsets (points) round an antenna to try for its label, nearest first: behind, the
+    sides, ahead beyond the arrow head; then the same twice as far out."""
+    base = math.degrees(math.atan2(un, ue))
+    for ring in (1.0, 2.0):
+        for turn in (180, 135, 225, 90, 270, 0, 45, 315):
+            a = math.radians(base + turn)
+            d = arrow_pt + 4.0 * ring if turn == 0 else dist_pt * ring
+            dx, dy = math.cos(a), math.sin(a)
+            yield (d * dx, d * dy,
+                   "center" if abs(dx) < 0.4 else ("left" if dx > 0 else "right"),
+                   "center" if abs(dy) < 0.4 else ("bottom" if dy > 0 else "top"))
+
+
 def _draw_antennas_plan(ax, antennas, span: float, fontsize: float, placed: list) -> None:
-    """Discs, boresight arrows and id labels (co-located antennas share one label)."""
+    """Discs, boresight arrows and id labels, placed where they overlap nothing drawn yet
+    (antennas side by side with the same azimuth share one label)."""
     arrow = 0.07 * span
-    items = [(a.id, float(a.position_m[0]), float(a.position_m[1])) for a in antennas]
+    renderer = ax.figure.canvas.get_renderer()
     for a in antennas:
         e, n = float(a.position_m[0]), float(a.position_m[1])
         ue, un = azimuth_unit(a.azimuth_deg)
@@ -230,23 +251,30 @@ def _draw_antennas_plan(ax, antennas, span: float, fontsize: float, placed: list
                     arrowprops={"arrowstyle": "-|>", "color": "black", "lw": 1.1,
                                 "shrinkA": 0, "shrinkB": 0, "mutation_scale": 9})
         ax.plot([e], [n], marker="o", ms=5.5, mfc="white", mec="black", mew=1.0, zorder=10, ls="none")
-    for g in _clusters(items, 0.045 * span):
-        ids = [items[j][0] for j in g]
-        cx = float(np.mean([items[j][1] for j in g]))
-        cy = float(np.mean([items[j][2] for j in g]))
-        # the label goes behind the mean boresight, where no arrow is drawn
-        ue = float(np.mean([azimuth_unit(antennas[j].azimuth_deg)[0] for j in g]))
-        un = float(np.mean([azimuth_unit(antennas[j].azimuth_deg)[1] for j in g]))
-        norm = math.hypot(ue, un) or 1.0
-        dx, dy = -ue / norm, -un / norm
-        t = ax.annotate("\n".join(ids), xy=(cx, cy), xytext=(dx * 11, dy * 11),
-                        textcoords="offset points",
-                        ha="center" if abs(dx) < 0.4 else ("left" if dx > 0 else "right"),
-                        va="center" if abs(dy) < 0.4 else ("bottom" if dy > 0 else "top"),
-                        fontsize=fontsize, zorder=11, linespacing=1.0, annotation_clip=True,
-                        bbox={"boxstyle": "round,pad=0.12", "fc": "white", "ec": "0.3", "lw": 0.4,
-                              "alpha": 0.9})
-        placed.append(t.get_window_extent(ax.figure.canvas.get_renderer()).expanded(1.05, 1.1))
+    a0, a1 = ax.transData.transform([(0.0, 0.0), (arrow, 0.0)])
+    arrow_pt = float(abs(a1[0] - a0[0])) * 72.0 / ax.figure.dpi
+    for g in _clusters(antennas, max(0.06 * span, 1.0)):
+        cx = float(np.mean([antennas[j].position_m[0] for j in g]))
+        cy = float(np.mean([antennas[j].position_m[1] for j in g]))
+        ue, un = azimuth_unit(float(antennas[g[0]].azimuth_deg))
+        best = None
+        for dx, dy, ha, va in _label_spots(ue, un, arrow_pt):
+            t = ax.annotate("\n".join(antennas[j].id for j in g), xy=(cx, cy), xytext=(dx, dy),
+                            textcoords="offset points", ha=ha, va=va, fontsize=fontsize, zorder=11,
+                            linespacing=1.0, annotation_clip=True,
+                            bbox={"boxstyle": "round,pad=0.12", "fc": "white", "ec": "0.3",
+                                  "lw": 0.4, "alpha": 0.9})
+            bb = t.get_window_extent(renderer).expanded(1.05, 1.1)
+            hits = sum(_overlaps_any(bb, [p]) for p in placed)
+            if best is None or hits < best[0]:
+                if best is not None:
+                    best[1].remove()
+                best = (hits, t, bb)
+            else:
+                t.remove()
+            if hits == 0:
+                break
+        placed.append(best[2])
 
 
 def _north_arrow(fig) -> None:
@@ -491,7 +519,7 @@ def _area_label(ax, area, text: str, fontsize: float, placed: list) -> None:
                     zorder=4, style="italic", clip_on=True)
         bb = t.get_window_extent(renderer)
         fits = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
-        if fits and not any(bb.overlaps(p) for p in placed):
+        if fits and not _overlaps_any(bb, placed):
             placed.append(bb)
             return
         t.remove()
@@ -565,20 +593,39 @@ def _free_text(ax, spots, text: str, fontsize: float, placed: list) -> bool:
                     bbox={"boxstyle": "round,pad=0.12", "fc": "white", "ec": "none", "alpha": 0.8})
         bb = t.get_window_extent(renderer)
         fits = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
-        if fits and not any(bb.overlaps(p) for p in placed):
+        if fits and not _overlaps_any(bb, placed):
             placed.append(bb)
             return True
         t.remove()
     return False
 
 
-def _arrow_box(ax, start, end, pad: float = 4.0):
-    """Screen bounding box of an arrow (for label placement). [px]"""
-    from matplotlib.transforms import Bbox
+class _Segment:
+    """A drawn line segment in screen pixels, an obstacle for labels."""
 
-    a, b = ax.transData.transform(start), ax.transData.transform(end)
-    return Bbox.from_extents(min(a[0], b[0]) - pad, min(a[1], b[1]) - pad,
-                             max(a[0], b[0]) + pad, max(a[1], b[1]) + pad)
+    def __init__(self, a, b, pad: float):
+        self.a, self.b, self.pad = tuple(a), tuple(b), pad
+
+    def overlaps(self, bb) -> bool:
+        from shapely.geometry import LineString, box
+
+        return LineString([self.a, self.b]).buffer(self.pad).intersects(box(bb.x0, bb.y0, bb.x1, bb.y1))
+
+
+def _overlaps_any(bb, placed) -> bool:
+    """Does the screen box ``bb`` overlap any placed box or segment?"""
+    for p in placed:
+        if isinstance(p, _Segment):
+            if p.overlaps(bb):
+                return True
+        elif bb.overlaps(p):
+            return True
+    return False
+
+
+def _arrow_box(ax, start, end, pad: float = 3.0) -> _Segment:
+    """The screen segment of an arrow (an obstacle for label placement)."""
+    return _Segment(ax.transData.transform(start), ax.transData.transform(end), pad)
 
 
 def _adaptive_cut(result: SiteResult, sources, table, antenna_id: str, rounds: int = 3):

@@ -189,3 +189,15 @@ def test_an_area_below_every_level_has_no_zones():
     east = north = _axes()
     rg = 0.01 * np.ones((len(north), len(east)))
     assert compute_zones(_result(rg, east, north, SQUARE)) == []
+
+
+def test_an_area_the_models_cannot_assess_at_all_is_one_keep_out_zone():
+    east = north = _axes(-3.0, 3.0)
+    rg = np.full((len(north), len(east)), np.nan)
+    outline = [[-2.5, -2.5], [2.5, -2.5], [2.5, 2.5], [-2.5, 2.5]]
+    zones = compute_zones(_result(rg, east, north, outline))
+    assert {z.kind for z in zones} == {"general-limit", "occupational-limit", "occupational-10x",
+                                       "not-assessable"}
+    for z in zones:
+        assert z.area_m2 == pytest.approx(25.0)  # the whole outline, in every zone
+        assert (z.category, z.sign_word) == (0, "")  # no cell tells the category: unknown
