@@ -43,6 +43,11 @@ def demo(
     written = build_report(res, out / DEMO_REPORT, with_maps=True, progress=not no_progress)
     console.print()
     console.print(f"[bold]Demo files in {out.resolve()}[/bold]", soft_wrap=True)
+    maps = [p for p in written if p.suffix.lower() in (".png", ".svg")]
     for p in written:
-        console.print(f"  {p}", soft_wrap=True, highlight=False)
+        if p not in maps:
+            console.print(f"  {p.name}", soft_wrap=True, highlight=False)
+    plans = sum(1 for p in maps if p.name.startswith("plan"))
+    console.print(f"  {len(maps)} map files (PNG and SVG: {plans} plans, "
+                  f"{len(maps) - plans} elevation cuts)", highlight=False)
     console.print(f"Open the report: {(out / DEMO_REPORT).resolve()}", soft_wrap=True)

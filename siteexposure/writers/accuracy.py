@@ -3,7 +3,8 @@
 Data copied from ``tests/data/nec/accuracy.md``, the table that the method-of-moments
 validation (PyNEC reference cases, ``tests/validation/nec_accuracy.py``) writes; the
 end-to-end tests check that this copy and that file agree row for row, so a regenerated
-table that changes a figure fails the tests until this copy is updated.
+table that changes a figure fails the tests until this copy is updated
+(``python -m siteexposure.writers.accuracy`` prints the new tables to paste below).
 
 Each row of :data:`E_FIELD` and :data:`POYNTING` is (model and region, points judged,
 points assessed, median, 5th percentile, 95th percentile, minimum and maximum error in dB
@@ -44,19 +45,19 @@ E_FIELD = (
     ('cylindrical (oet65-cylindrical), radiating near field', '25174', '13586', '+0.19', '-6.59', '+3.62', '-45.99', '+12.55', '78.9 %',),
     ('cylindrical (oet65-cylindrical), far field', '6034', '6034', '+0.06', '-0.37', '+0.36', '-4.58', '+2.13', '97.4 %',),
     ('array (array-synthesis), lambda/2..lambda', '10081', '3690', '+0.01', '-0.01', '+0.01', '-0.05', '+0.01', '100.0 %',),
-    ('array (array-synthesis), radiating near field', '25174', '13586', '+0.01', '-0.44', '+0.32', '-2.42', '+4.45', '99.8 %',),
-    ('array (array-synthesis), far field', '6034', '6034', '+0.01', '-0.29', '+0.04', '-1.47', '+1.71', '100.0 %',),
+    ('array (array-synthesis), radiating near field', '25174', '13586', '+0.01', '-0.40', '+0.30', '-2.38', '+4.55', '99.8 %',),
+    ('array (array-synthesis), far field', '6034', '6034', '+0.01', '-0.22', '+0.03', '-1.39', '+1.97', '100.0 %',),
     ('auto (array-synthesis), lambda/2..lambda', '10081', '3690', '+0.01', '-0.01', '+0.01', '-0.05', '+0.01', '100.0 %',),
-    ('auto (array-synthesis), radiating near field', '25174', '13586', '+0.01', '-0.44', '+0.32', '-2.42', '+4.45', '99.8 %',),
-    ('auto (array-synthesis), far field', '6034', '6034', '+0.01', '-0.29', '+0.04', '-1.47', '+1.71', '100.0 %',),
+    ('auto (array-synthesis), radiating near field', '25174', '13586', '+0.01', '-0.40', '+0.30', '-2.38', '+4.55', '99.8 %',),
+    ('auto (array-synthesis), far field', '6034', '6034', '+0.01', '-0.22', '+0.03', '-1.39', '+1.97', '100.0 %',),
 )
 
 #: `auto` per reference case (all regions)
 AUTO_BY_CASE = (
     ('dipole (array-synthesis)', '12968', '12968', '+0.01', '-0.00', '+0.01', '-0.05', '+0.01', '100.0 %',),
     ('collinear (array-synthesis)', '11986', '5472', '+0.02', '-0.68', '+0.21', '-1.01', '+0.23', '100.0 %',),
-    ('panel (array-synthesis)', '8264', '2488', '-0.12', '-0.69', '+0.36', '-1.46', '+1.45', '100.0 %',),
-    ('panel_tilt6 (array-synthesis)', '8071', '2382', '-0.04', '-0.63', '+1.40', '-2.42', '+4.45', '98.6 %',),
+    ('panel (array-synthesis)', '8264', '2488', '-0.09', '-0.61', '+0.20', '-1.45', '+1.42', '100.0 %',),
+    ('panel_tilt6 (array-synthesis)', '8071', '2382', '-0.00', '-0.64', '+1.31', '-2.38', '+4.55', '98.6 %',),
 )
 
 #: reference: magnitude of the time-averaged Poynting vector
@@ -68,11 +69,11 @@ POYNTING = (
     ('cylindrical (oet65-cylindrical), radiating near field', '25174', '13568', '+0.15', '-5.67', '+3.64', '-40.33', '+12.56', '79.1 %',),
     ('cylindrical (oet65-cylindrical), far field', '6034', '6034', '+0.06', '-0.33', '+0.39', '-4.52', '+2.13', '97.4 %',),
     ('array (array-synthesis), lambda/2..lambda', '10081', '3676', '-0.15', '-0.45', '+2.11', '-0.47', '+3.42', '98.7 %',),
-    ('array (array-synthesis), radiating near field', '25174', '13568', '-0.01', '-0.40', '+0.57', '-2.47', '+4.37', '99.7 %',),
-    ('array (array-synthesis), far field', '6034', '6034', '+0.00', '-0.28', '+0.14', '-1.45', '+1.70', '100.0 %',),
+    ('array (array-synthesis), radiating near field', '25174', '13568', '-0.01', '-0.37', '+0.55', '-2.42', '+4.47', '99.8 %',),
+    ('array (array-synthesis), far field', '6034', '6034', '+0.00', '-0.22', '+0.09', '-1.37', '+1.97', '100.0 %',),
     ('auto (array-synthesis), lambda/2..lambda', '10081', '3676', '-0.15', '-0.45', '+2.11', '-0.47', '+3.42', '98.7 %',),
-    ('auto (array-synthesis), radiating near field', '25174', '13568', '-0.01', '-0.40', '+0.57', '-2.47', '+4.37', '99.7 %',),
-    ('auto (array-synthesis), far field', '6034', '6034', '+0.00', '-0.28', '+0.14', '-1.45', '+1.70', '100.0 %',),
+    ('auto (array-synthesis), radiating near field', '25174', '13568', '-0.01', '-0.37', '+0.55', '-2.42', '+4.47', '99.8 %',),
+    ('auto (array-synthesis), far field', '6034', '6034', '+0.00', '-0.22', '+0.09', '-1.37', '+1.97', '100.0 %',),
 )
 
 #: model ids of the package that the validation covers (the rest: "not validated")
@@ -83,3 +84,39 @@ def rows_for(model_id: str, table: tuple = E_FIELD) -> list[tuple]:
     """The rows of ``table`` that concern ``model_id`` (``auto`` rows excluded)."""
     return [r for r in table if r[0].split(",")[0].endswith(f"({model_id})")
             and not r[0].startswith("auto")]
+
+
+def _copy_from_markdown(path: str) -> str:
+    """Python text of the four tables of ``path`` (an accuracy.md), to paste above after
+    the validation has regenerated the file: ``python -m siteexposure.writers.accuracy``."""
+    import re
+    from pathlib import Path
+
+    blocks = re.split(r"\n### ", Path(path).read_text(encoding="utf-8"))
+
+    def rows(block: str) -> list[tuple[str, ...]]:
+        out = [tuple(c.strip() for c in line.strip().strip("|").split("|"))
+               for line in block.splitlines()
+               if line.startswith("|") and not line.startswith("|---")]
+        return out[1:]
+
+    titled = {b.splitlines()[0]: rows(b) for b in blocks[1:]}
+
+    def pick(prefix: str) -> list[tuple[str, ...]]:
+        return next(v for k, v in titled.items() if k.startswith(prefix))
+
+    tables = {"CASES": rows(blocks[0]), "E_FIELD": pick("Reference |E_rms|"),
+              "AUTO_BY_CASE": pick("`auto` per reference case"),
+              "POYNTING": pick("Reference: magnitude of the time-averaged")}
+    text = []
+    for name, rs in tables.items():
+        text.append(f"{name} = (")
+        text += ["    (" + ", ".join(repr(c) for c in r) + ",)," for r in rs]
+        text.append(")")
+    return "\n".join(text)
+
+
+if __name__ == "__main__":
+    import sys
+
+    print(_copy_from_markdown(sys.argv[1] if len(sys.argv) > 1 else SOURCE))

@@ -118,7 +118,7 @@ def _versions() -> str:
 
 
 def traceability(ctx: ReportContext) -> list:
-    from reportlab.platypus import PageBreak
+    from reportlab.platypus import PageBreak, Spacer
 
     site, data, settings = ctx.site, ctx.data, ctx.result.settings
     out = [PageBreak(), heading(8)]
@@ -140,14 +140,16 @@ def traceability(ctx: ReportContext) -> list:
                      [[a.id, a.pattern_source or "not recorded"] for a in site.antennas],
                      [1.2, 7.8], ctx.width, mono_cols=(1,)))
     out.append(para("Limit tables", "H2"))
-    rows = []
     for sid in data["site"]["limits"]:
         src = data["limit_sources"].get(sid, {})
-        rows.append([sid, src.get("file", ""), src.get("sha256", "")])
-    out.append(table(["id", "file", "SHA-256"], rows, [1.0, 3.4, 4.6], ctx.width,
-                     mono_cols=(1, 2)))
-    out.append(para("Sources: see the limit-table list in section 3; each file cites its "
-                    "publication, edition and tables.", "small"))
+        out.append(key_value([
+            ("Limit set", f"{sid} — {src.get('title', '')}"),
+            ("File", src.get("file", "")),
+            ("SHA-256", src.get("sha256", "")),
+            ("Source", src.get("publication", "")),
+            ("Tables", "; ".join(src.get("tables", []))),
+        ], ctx.width, key_fraction=0.16, mono_keys=("File", "SHA-256")))
+        out.append(Spacer(1, 6))
     out.append(para("Settings of this run", "H2"))
     rows = [[k, json.dumps(v, ensure_ascii=False, sort_keys=True)]
             for k, v in settings.items() if k != "run_utc"]

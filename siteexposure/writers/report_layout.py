@@ -252,13 +252,16 @@ def table(
     return t
 
 
-def key_value(rows: Sequence[tuple[str, object]], width: float, *, key_fraction: float = 0.28):
-    """A two-column table of labels and values, without a header row."""
+def key_value(rows: Sequence[tuple[str, object]], width: float, *, key_fraction: float = 0.28,
+              mono_keys: Sequence[str] = ()):
+    """A two-column table of labels and values, without a header row; the values of the
+    labels in ``mono_keys`` print in the monospaced face."""
     from reportlab.lib import colors
     from reportlab.platypus import Table, TableStyle
 
     st = styles()
-    data = [[_cell(k, st["cellhead"]), _cell(v, st["cell"])] for k, v in rows]
+    data = [[_cell(k, st["cellhead"]), _cell(v, st["mono"] if k in mono_keys else st["cell"])]
+            for k, v in rows]
     t = Table(data, colWidths=[width * key_fraction, width * (1 - key_fraction)], hAlign="LEFT")
     t.setStyle(
         TableStyle(

@@ -130,8 +130,10 @@ def method(ctx: ReportContext) -> list:
         "frequencies add in proportion to their limits. An operator's share is the sum over its "
         "antennas. Operators whose share is 5 % of the limit or more where the limit is exceeded "
         "share responsibility (47 CFR 1.1307(b)(5)). Power remedies are exact because the ratio "
-        "is linear in power; the height remedy raises the dominant antennas in 0.5 m steps and "
-        "re-evaluates the area."))
+        "is linear in power. The height remedy raises the dominant antennas (those at 5 % of "
+        "the limit or more at the worst point; the whole mount when the other antennas alone "
+        "would still exceed) and searches, by re-evaluating the area, the smallest extra height "
+        "that complies, up to a search limit."))
     out.append(para("Limit tables", "H2"))
     rows = []
     for sid in data["site"]["limits"]:

@@ -212,4 +212,7 @@ def write_report(
             raise OutputError(f"report '{target}': the layout failed ({exc})") from exc
         finally:
             rl_config.useA85 = saved_a85
+        if doc.passes < 2:  # maps are drawn from the second pass on (report_results)
+            raise OutputError(f"report '{target}': the contents list did not force a second "
+                              "layout pass; expected at least two")
     return target

@@ -26,7 +26,7 @@ KEEP_OUT_KEYS = ("front", "behind", "left", "right", "above", "below")
 MINOR_SHARE = 0.01
 #: largest share of the frame height a plan map, and an elevation cut, may take (two cuts
 #: fit on one page)
-PLAN_HEIGHT_SHARE = 0.62
+PLAN_HEIGHT_SHARE = 0.82
 ELEVATION_HEIGHT_SHARE = 0.46
 TRIM_PAD_PX = 12  #: white margin kept round a trimmed map [px]
 
@@ -267,7 +267,7 @@ def results(ctx: ReportContext) -> list:
 # ----------------------------------------------------------------------------- mitigation
 
 
-def _remedy_rows(b: dict) -> list[list]:
+def _remedy_rows(b: dict, n_antennas: int) -> list[list]:
     m = b["mitigation"]
     if m is None:
         return []
@@ -278,9 +278,12 @@ def _remedy_rows(b: dict) -> list[list]:
                  "not possible alone" if resp is None else f"{jnum(resp)} dB"])
     for op, v in m["operator_alone_reduction_db"].items():
         rows.append([f"{op} alone reduces", "not possible alone" if v is None else f"{jnum(v)} dB"])
-    raised = ", ".join(m["raised_antennas"]) or "none"
+    if len(m["raised_antennas"]) == n_antennas > 1:
+        what = "raise the whole mount (every antenna) together"
+    else:
+        what = f"raise the dominant antennas ({', '.join(m['raised_antennas']) or 'none'}) together"
     h = m["extra_height_m"]
-    rows.append([f"raise the dominant antennas ({raised}) together",
+    rows.append([what,
                  f"not found within {jnum(m['height_search_limit_m'])} m" if h is None
                  else f"{jnum(h)} m higher"])
     return rows
@@ -317,7 +320,7 @@ def mitigation(ctx: ReportContext) -> list:
     for a, b in failing:
         out.append(para(f"{a['name']} — {b['limits']} ({b['population']}): maximum exposure ratio "
                         f"{jnum(b['max_exposure_ratio'])}", "H2"))
-        out.append(table(["remedy", "amount that brings the area to the limit"], _remedy_rows(b),
+        out.append(table(["remedy", "amount that brings the area to the limit"], _remedy_rows(b, len(ctx.site.antennas)),
                          [4.0, 2.0], ctx.width))
     out.append(para("Power reductions are exact (exposure is proportional to power). Heights are "
                     "searched in steps and re-evaluated; a reduction of one operator alone is "

@@ -35,15 +35,40 @@ HEADINGS = (
 )
 
 
-def heading(n: int, extra: str = ""):
+def heading(n: int):
     """The numbered heading of section ``n`` (1-based) of :data:`HEADINGS`."""
-    return para(f"{n}  {HEADINGS[n - 1]}{extra}", "H1")
+    return para(f"{n}  {HEADINGS[n - 1]}", "H1")
+
+
+def _reachable_findings(ctx: ReportContext) -> tuple[bool, bool]:
+    """(exceeded, not assessable) anywhere people can reach: areas and receptors."""
+    exceeded = unknown = False
+    for a in ctx.evaluated_areas():
+        for b in a["by_limits"]:
+            exceeded |= b["verdict"] == "exceeds"
+            unknown |= b["verdict"] == "not assessable"
+    for p in ctx.data["points"]:
+        pop = {"public": "general", "worker": "occupational"}.get(p["access"])
+        for e in p["exposure"]:
+            if e["population"] == pop:
+                r = e["exposure_ratio"]
+                exceeded |= r is not None and r > 1.0
+                unknown |= r is None
+    return exceeded, unknown
 
 
 def overall_sentence(ctx: ReportContext) -> str:
-    if ctx.data["exceeded_where_reachable"]:
-        return ("On these inputs a limit is exceeded, or cannot be assessed, somewhere people "
-                "can reach.")
+    """The one-sentence finding of the whole site, in plain words."""
+    exceeded, unknown = _reachable_findings(ctx)
+    if exceeded and unknown:
+        return ("On these inputs a limit is exceeded somewhere people can reach, and some "
+                "places people can reach could not be assessed by these models.")
+    if exceeded:
+        return "On these inputs a limit is exceeded somewhere people can reach."
+    if unknown:
+        return ("On these inputs no exceedance was found, but some places people can reach "
+                "could not be assessed by these models: they are not shown to be within the "
+                "limits.")
     return "On these inputs no limit is exceeded anywhere people can reach."
 
 

@@ -362,3 +362,23 @@ def test_demo_runs_end_to_end_and_writes_its_files(tmp_path, monkeypatch):
     text = flat(r.output)
     assert "Cautions" in text and str(out.resolve()) in text and demo_cmd.DEMO_REPORT in text
     assert "Station Street car park" in flat(pages_text(pdf)[0])
+
+
+def test_overall_finding_matches_the_verdicts_of_screen_json(work):
+    """The plain-words finding on the cover follows the JSON verdicts (areas and receptors)."""
+    data = work["json"]
+    verdicts = {b["verdict"] for a in data["areas"] if a["access"] != "none"
+                for b in a["by_limits"]}
+    exceeded = "exceeds" in verdicts
+    unknown = "not assessable" in verdicts
+    cover = flat(pages_text(work["pdf"])[0])
+    assert data["exceeded_where_reachable"] == (exceeded or unknown or any(
+        e["exposure_ratio"] is None or e["exposure_ratio"] > 1 for p in data["points"]
+        for e in p["exposure"]
+        if e["population"] == {"public": "general", "worker": "occupational"}.get(p["access"])))
+    if exceeded:
+        assert "a limit is exceeded somewhere people can reach" in cover
+    elif unknown:
+        assert "no exceedance was found, but some places people can reach could not be" in cover
+    else:
+        assert "no limit is exceeded anywhere people can reach" in cover
