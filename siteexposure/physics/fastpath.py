@@ -1,0 +1,759 @@
+"""Fused far-field kernel: many sources x many points -> weighted exposure-ratio sums.
+
+The engine needs, for every limit combination ``c`` and field point ``p``, the sum
+``R[c, p] = sum_i W[c, i] S_i(p)`` of the far-field densities ``S_i = P G(phi, theta) F /
+(4 pi r^2)`` (:func:`siteexposure.physics.farfield.farfield_power_density`). The plain path
+builds an ``(n_source, n_point)`` block of densities and multiplies it by ``W``; here:
+
+* :func:`far_field_ratio_sums` -- the same quantity from a fused kernel, compiled with
+  numba (``njit(parallel=True, fastmath=False, cache=True)``) when numba imports and
+  ``SITEEXPOSURE_NO_NUMBA`` is not set (read at every call), else from
+* :func:`far_field_ratio_sums_reference` -- the plain numpy reference: the package's own
+  far-field model, source by source, added into ``R``;
+* :func:`ratio_sums` -- the engine's entry point: far-field sources with pattern files go
+  through the kernel, every other source through :func:`siteexposure.physics.sources.power_density`.
+
+Per (source, point) pair the kernel projects the offset on the antenna axes of
+:func:`~siteexposure.physics.orientation.antenna_axes` (three dot products), takes
+``phi = atan2(-y_a, x_a)`` and ``theta = atan2(z_a, rho)`` (one arctangent each, no arccos,
+no ``mod``: ``|phi'|`` of the side blend is ``|atan2|`` itself) from our own branch-free
+:func:`atan2_kernel`, looks the cuts up on regular grids whose nodes hold every sample of
+the file (so that the interpolation, linear in dB, is the very function
+:class:`~siteexposure.physics.synthesis.TablePattern` interpolates), applies the same
+synthesis rule (additive or weighted bilinear), turns dB into a ratio with a table of
+tenths of a dB and a short series, and adds ``W[:, i] S_i`` into the sums of its block at
+once. The reactive-near-field test compares ``r^2`` with a threshold equivalent to
+``sqrt(r^2) >= radius``. A point that a weighted source cannot assess makes that sum NaN,
+as :func:`siteexposure.engine.evaluate.weighted_sums` does. Loops are split so that the
+arithmetic vectorises and only the table loads stay scalar. Memory: per work item a few
+``POINT_BLOCK``-long rows and ``n_combo x POINT_BLOCK`` sums; nothing of size
+``n_source x n_point`` exists.
+
+References
+----------
+.. [1] FCC OET Bulletin 65, Edition 97-01, Aug. 1997, Section 2, eqs. (3) and (6)
+   (equation numbers from memory).
+.. [2] 3GPP TR 38.901 V17.0.0 (2022-03), clause 7.3, Table 7.3-1; F. Gil et al., "A 3D
+   interpolation method for base-station-antenna radiation patterns", IEEE Antennas Propag.
+   Mag., vol. 43, no. 2, Apr. 2001 (the two rules of :class:`TablePattern`).
+.. [3] M. Abramowitz, I. A. Stegun, "Handbook of Mathematical Functions", 10th printing,
+   1972, eqs. 4.4.34 and 4.4.42 (arctangent), 4.2.1 (exponential series).
+.. [4] ISO/IEC 9899:2018 (C17), Annex F.10.1.4 (atan2 of signed zeros).
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+try:  # optional accelerator (the "fast" extra)
+    import numba as _numba
+except ImportError:  # pragma: no cover - exercised by the no-numba subprocess test
+    _numba = None
+
+NO_NUMBA_ENV = "SITEEXPOSURE_NO_NUMBA"  #: set to 1 to force the plain numpy reference
+POINT_BLOCK = 128  #: points per block of the kernel (its scratch rows stay in L1 cache)
+_WORK_ITEMS = 64  # parallel work items per call (each runs whole blocks)
+REFERENCE_CHUNK = 65_536  #: points per pass of the numpy reference (bounds its temporaries)
+_R2D = 180.0 / math.pi  # the factor np.rad2deg multiplies by
+_HALF_PI = 0.5 * math.pi
+_QUARTER_PI = 0.25 * math.pi
+_EIGHTH_PI = 0.125 * math.pi
+_TAN_PI_8 = math.sqrt(2.0) - 1.0  # tan(pi/8)
+_TAN_PI_16 = math.tan(math.pi / 16.0)
+_TAN_3PI_16 = math.tan(3.0 * math.pi / 16.0)
+_LN10_BY_10 = math.log(10.0) / 10.0
+_INV_180 = 1.0 / 180.0
+_METHOD_CODES = {"additive": 0, "weighted-bilinear": 1}
+_prange = _numba.prange if _numba is not None else range
+
+
+def _jit(**options):
+    """``numba.njit(error_model="numpy", **options)`` when numba is installed (IEEE division:
+    no Python ZeroDivisionError checks, which also keeps loops vectorisable), else leave the
+    function as plain Python."""
+    if _numba is None:  # pragma: no cover
+        return lambda f: f
+    return _numba.njit(error_model="numpy", **options)
+
+
+def fast_available() -> bool:
+    """True when the compiled kernel will run: numba imports and ``SITEEXPOSURE_NO_NUMBA``
+    is unset, empty or ``0`` (read at every call)."""
+    flag = os.environ.get(NO_NUMBA_ENV, "").strip().lower()
+    return _numba is not None and flag in ("", "0", "false", "no")
+
+
+# -- scalar kernels (compiled with numba; plain Python without it) ------------------------
+
+_ATAN_C = tuple(1.0 / (2 * k + 1) for k in range(11))  # A&S 4.4.42
+_EXP_C = tuple(1.0 / math.factorial(k) for k in range(8))  # A&S 4.2.1
+
+
+@_jit(cache=True, inline="always")
+def _atan_series(s):
+    """``atan(u) / u`` for ``s = u^2 <= tan(pi/16)^2``: the series to ``u^20/21``."""
+    c = _ATAN_C
+    p = c[9] - s * c[10]
+    p = c[8] - s * p
+    p = c[7] - s * p
+    p = c[6] - s * p
+    p = c[5] - s * p
+    p = c[4] - s * p
+    p = c[3] - s * p
+    p = c[2] - s * p
+    p = c[1] - s * p
+    return c[0] - s * p
+
+
+@_jit(cache=True, inline="always")
+def _atan_first_quadrant(ay, ax):
+    """``atan2(ay, ax)`` for ``ay, ax >= 0``, in [0, pi/2]. [rad]"""
+    big = max(ax, ay)
+    small = min(ax, ay)
+    hi = small > _TAN_3PI_16 * big
+    mid = small > _TAN_PI_16 * big
+    tc = 1.0 if hi else (_TAN_PI_8 if mid else 0.0)
+    base = _QUARTER_PI if hi else (_EIGHTH_PI if mid else 0.0)
+    den = big + tc * small
+    u = (small - tc * big) / den
+    u = u if den > 0.0 else 0.0
+    a = base + u * _atan_series(u * u)
+    return _HALF_PI - a if ay > ax else a
+
+
+@_jit(cache=True, inline="always")
+def atan2_kernel(y, x):
+    """Two-argument arctangent with the C99 conventions, for compiled loops. [rad]
+
+    Parameters
+    ----------
+    y, x : float
+        Ordinate and abscissa. [1]
+
+    Returns
+    -------
+    float
+        The angle of ``(x, y)`` in ``[-pi, pi]``; ``atan2(+-0, -0) = +-pi``. [rad]
+
+    Notes
+    -----
+    With ``a = min(|x|, |y|)``, ``b = max(|x|, |y|)`` and ``t = a / b`` in ``[0, 1]``,
+    the addition formula ``atan t = c + atan((t - tan c) / (1 + t tan c))`` with
+    ``c in {0, pi/8, pi/4}`` (whichever is nearest) leaves ``|u| <= tan(pi/16)``, where the
+    alternating series ``atan u = sum_k (-1)^k u^(2k+1) / (2k+1)``, k = 0..10, errs by
+    less than ``u^23 / 23 < 2e-17 |u|``. The quadrant follows from the sign bits, so that
+    signed zeros behave as in C99 Annex F.10.1.4. Written with selects only (no branch on
+    the data), so that a compiled loop over points vectorises.
+
+    References
+    ----------
+    Abramowitz and Stegun, Handbook of Mathematical Functions, eqs. 4.4.34 and 4.4.42;
+    ISO/IEC 9899:2018 Annex F.10.1.4.
+    """
+    a = _atan_first_quadrant(abs(y), abs(x))
+    a = math.pi - a if math.copysign(1.0, x) < 0.0 else a
+    return math.copysign(a, y)
+
+
+@_jit(cache=True, inline="always")
+def _exp_series(y):
+    """``exp(y)`` for ``0 <= y < 0.0231``: the series to ``y^7/7!`` (error < ``y^8/8!`` < 2e-18)."""
+    c = _EXP_C
+    e = c[6] + y * c[7]
+    e = c[5] + y * e
+    e = c[4] + y * e
+    e = c[3] + y * e
+    e = c[2] + y * e
+    e = c[1] + y * e
+    return c[0] + y * e
+
+
+@_jit(cache=True, inline="always")
+def _geometry(m, f, it, o, ax, r2_min):
+    """Rows of ``f`` for the first ``m`` points of a block: from ``px, py, pz`` (rows 0-2)
+    to ``1/r^2`` (row 3; 0 where not assessable), ``phi`` in [0, 360] (row 4), ``|phi'|``
+    (row 5) and the elevation (row 6) [deg]; ``it[0]`` flags points not assessable.
+    Returns their number. Vectorises: no data-dependent branches."""
+    n_out = 0
+    for q in range(m):
+        dx = f[0, q] - o[0]
+        dy = f[1, q] - o[1]
+        dz = f[2, q] - o[2]
+        r2 = dx * dx + dy * dy + dz * dz
+        ok = r2 >= r2_min  # the same test as sqrt(r2) >= radius, see _r2_threshold
+        xa = dx * ax[0] + dy * ax[1] + dz * ax[2] + 0.0  # +0.0: a zero sum is +0, as in BLAS
+        ya = dx * ax[3] + dy * ax[4] + dz * ax[5]
+        za = dx * ax[6] + dy * ax[7] + dz * ax[8]
+        a = atan2_kernel(-ya, xa) * _R2D
+        e = math.copysign(_atan_first_quadrant(abs(za), math.sqrt(xa * xa + ya * ya)), za)
+        f[3, q] = 1.0 / r2 if ok else 0.0
+        f[4, q] = (a + 360.0 if a < 0.0 else a) if ok else 0.0
+        f[5, q] = abs(a) if ok else 0.0
+        f[6, q] = min(90.0, max(-90.0, e * _R2D)) if ok else 0.0
+        it[0, q] = 0 if ok else 1
+        n_out += it[0, q]
+    return n_out
+
+
+@_jit(cache=True, inline="always")
+def _to_cells(m, f, src, dst, it, row, inv_width, n, shift):
+    """Row ``dst`` of ``f`` := fraction within its cell, ``it[row]`` := cell index, of
+    ``f[src] + shift`` on a regular grid of ``n`` cells of width ``1/inv_width``."""
+    for q in range(m):
+        x = (f[src, q] + shift) * inv_width
+        j = min(max(int(x), 0), n - 1)
+        it[row, q] = j
+        f[dst, q] = x - j
+
+
+@_jit(cache=True, inline="always")
+def _gather(m, f, it, row, node, slope, off, dst):
+    """Rows ``dst``, ``dst + 1`` := node value and slope of the cell ``it[row]`` (scalar loads,
+    kept apart so that the arithmetic around them vectorises)."""
+    for q in range(m):
+        j = off + it[row, q]
+        f[dst, q] = node[j]
+        f[dst + 1, q] = slope[j]
+
+
+@_jit(cache=True, inline="always")
+def _density(m, f, it, g_row, k, table, k0):
+    """Row 7 := ``k 10**(g/10) / r^2`` from the gains in row ``g_row`` [dB]: table of tenths
+    of a dB (``it[1]`` holds the index) times :func:`_exp_series` of the rest."""
+    nt = table.shape[0]
+    for q in range(m):
+        g = f[g_row, q]
+        j = min(max(int(math.floor(10.0 * g)) - k0, 0), nt - 1)
+        it[1, q] = j
+        f[7, q] = k * _exp_series((g - 0.1 * (j + k0)) * _LN10_BY_10) * f[3, q]
+    for q in range(m):
+        f[7, q] *= table[it[1, q]]
+
+
+@_jit(cache=True, inline="always")
+def _additive(m, f, f0, b0, g_lo):
+    """Row 8 := gain [dBi] by the additive rule of :meth:`TablePattern.gain_dbi`, from the
+    cut values and slopes gathered into rows 9-14 and the fractions in rows 4 and 6."""
+    for q in range(m):
+        w = min(1.0, max(0.0, (100.0 - f[5, q]) * 0.05))
+        h = f[9, q] + f[4, q] * f[10, q]
+        vf = f[11, q] + f[6, q] * f[12, q]
+        vb = f[13, q] + f[6, q] * f[14, q]
+        f[8, q] = max(h + w * (vf - f0) + (1.0 - w) * (vb - b0), g_lo)
+
+
+@_jit(cache=True, inline="always")
+def _bilinear(m, f, el_deg):
+    """Row 8 := gain [dBi] by the weighted bilinear rule of :meth:`TablePattern.gain_dbi`;
+    the opposite horizontal value (phi + 180 deg) is gathered into rows 15-16 (fraction in
+    row 17), the elevation itself is in ``el_deg``."""
+    for q in range(m):
+        h = f[9, q] + f[4, q] * f[10, q]
+        vf = f[11, q] + f[6, q] * f[12, q]
+        vb = f[13, q] + f[6, q] * f[14, q]
+        ho = f[15, q] + f[17, q] * f[16, q]
+        d_f = f[5, q]
+        d_b = 180.0 - d_f
+        e_1 = abs(el_deg[q])
+        e_2 = 180.0 - e_1
+        a_val = (d_b * vf + d_f * vb) * _INV_180
+        e_val = (e_2 * h + e_1 * ho) * _INV_180
+        w_a = e_1 * e_2  # both weights without their common factor 1/180
+        w_e = d_f * d_b
+        g = (w_a * a_val + w_e * e_val) / (w_a + w_e)
+        g = e_val if w_a == 0.0 else g
+        f[8, q] = a_val if w_e == 0.0 else g
+
+
+@_jit(parallel=True, fastmath=False, cache=True)
+def _ratio_kernel(pts, pos, axes, kfac, r2_min, method, gfloor, vf0, vb0, h_node, h_slope,
+                  h_off, h_n, vf_node, vf_slope, vb_node, vb_slope, v_off, v_n,
+                  exp_table, exp_k0, weights, out):
+    """``out[c, p] = sum_i weights[c, i] S_i(p)``, NaN where a weighted source is not
+    assessable. Work items of whole blocks of :data:`POINT_BLOCK` points run in parallel,
+    each with its own scratch rows (allocated once per item)."""
+    n = pts.shape[0]
+    nc = weights.shape[0]
+    nblk = (n + POINT_BLOCK - 1) // POINT_BLOCK
+    n_items = min(nblk, _WORK_ITEMS)
+    for item in _prange(n_items):  # pragma: no cover - compiled
+        f = np.empty((18, POINT_BLOCK))
+        el = np.empty(POINT_BLOCK)
+        it = np.empty((4, POINT_BLOCK), dtype=np.int64)
+        acc = np.empty((nc, POINT_BLOCK))
+        nbad = np.empty((nc, POINT_BLOCK), dtype=np.int64)
+        for blk in range(item * nblk // n_items, (item + 1) * nblk // n_items):
+            p0 = blk * POINT_BLOCK
+            m = min(n, p0 + POINT_BLOCK) - p0
+            for q in range(m):
+                f[0, q] = pts[p0 + q, 0]
+                f[1, q] = pts[p0 + q, 1]
+                f[2, q] = pts[p0 + q, 2]
+            acc[:, :] = 0.0
+            nbad[:, :] = 0
+            for i in range(pos.shape[0]):
+                n_out = _geometry(m, f, it, pos[i], axes[i], r2_min[i])
+                hn, vn = h_n[i], v_n[i]
+                if method[i] == 1:  # the elevation, and the opposite azimuth phi + 180 deg
+                    for q in range(m):
+                        el[q] = f[6, q]
+                        p2 = f[4, q] + 180.0
+                        f[17, q] = p2 - 360.0 if p2 >= 360.0 else p2
+                    _to_cells(m, f, 17, 17, it, 3, hn / 360.0, hn, 0.0)
+                    _gather(m, f, it, 3, h_node, h_slope, h_off[i], 15)
+                _to_cells(m, f, 4, 4, it, 1, hn / 360.0, hn, 0.0)
+                _to_cells(m, f, 6, 6, it, 2, vn / 180.0, vn, 90.0)
+                _gather(m, f, it, 1, h_node, h_slope, h_off[i], 9)
+                _gather(m, f, it, 2, vf_node, vf_slope, v_off[i], 11)
+                _gather(m, f, it, 2, vb_node, vb_slope, v_off[i], 13)
+                if method[i] == 0:
+                    _additive(m, f, vf0[i], vb0[i], gfloor[i])
+                else:
+                    _bilinear(m, f, el)
+                _density(m, f, it, 8, kfac[i], exp_table, exp_k0)
+                for c in range(nc):
+                    w = weights[c, i]
+                    for q in range(m):
+                        acc[c, q] += w * f[7, q]
+                    if n_out > 0 and w != 0.0:  # NaN weights count as weighted
+                        for q in range(m):
+                            nbad[c, q] += it[0, q]
+            for c in range(nc):
+                for q in range(m):
+                    out[c, p0 + q] = np.nan if nbad[c, q] > 0 else acc[c, q]
+
+
+# -- per-source tables ----------------------------------------------------------------------
+
+MAX_CELLS = 36_000  #: finest regular grid of a cut the kernel takes (0.01 deg over 360 deg)
+_ON_GRID = 1e-9  # largest offset of a sample from a grid node, in cells (rounding only)
+
+
+def _uniform_cells(angles, lo: float, span: float) -> int | None:
+    """Smallest number of equal cells of [lo, lo + span] whose nodes hold every sample angle.
+
+    ``None`` when no such grid of at most :data:`MAX_CELLS` cells exists (irregular samples).
+    """
+    a = np.unique(np.concatenate([np.asarray(angles, dtype=float), [lo, lo + span]]))
+    a = a[(a >= lo) & (a <= lo + span)]
+    n0 = max(1, int(round(span / float(np.diff(a).min()))))
+    for mult in range(1, 13):
+        n = n0 * mult
+        if n > MAX_CELLS:
+            return None
+        pos = (a - lo) * (n / span)
+        if float(np.max(np.abs(pos - np.rint(pos)))) <= _ON_GRID:
+            return n
+    return None
+
+
+@dataclass(frozen=True)
+class _CutTables:
+    """One pattern's cuts on regular grids: the same piecewise-linear functions in dB."""
+
+    method: int
+    h_cells: int
+    h_dbi: np.ndarray  # (h_cells + 1,) at 0 .. 360 deg
+    v_cells: int
+    vf_dbi: np.ndarray  # (v_cells + 1,) at -90 .. 90 deg
+    vb_dbi: np.ndarray
+    vf0_dbi: float
+    vb0_dbi: float
+    floor_dbi: float
+    lo_dbi: float  # range of the synthesised gain, for the exponential table
+    hi_dbi: float
+
+
+_TABLES: dict = {}  # id(pattern) -> (pattern, _CutTables | None); holds the pattern
+_TABLES_SIZE = 256
+
+
+def _pattern_tables(pattern) -> _CutTables | None:
+    """The regular-grid tables of a pattern file, or None if the kernel cannot take it."""
+    hit = _TABLES.get(id(pattern))
+    if hit is not None and hit[0] is pattern:
+        return hit[1]
+    from siteexposure.physics.synthesis import TablePattern
+
+    tables = None
+    if isinstance(pattern, TablePattern) and pattern.method in _METHOD_CODES:
+        nh = _uniform_cells(pattern.h_angle_deg, 0.0, 360.0)
+        nv = _uniform_cells(np.union1d(pattern.v_front_elev_deg, pattern.v_back_elev_deg),
+                            -90.0, 180.0)
+        if nh is not None and nv is not None:
+            hn = np.arange(nh + 1) * (360.0 / nh)
+            vn = -90.0 + np.arange(nv + 1) * (180.0 / nv)
+            h = np.interp(hn, pattern.h_angle_deg, pattern.h_gain_dbi, period=360.0)
+            vf = np.interp(vn, pattern.v_front_elev_deg, pattern.v_front_gain_dbi)
+            vb = np.interp(vn, pattern.v_back_elev_deg, pattern.v_back_gain_dbi)
+            f0 = float(np.interp(0.0, pattern.v_front_elev_deg, pattern.v_front_gain_dbi))
+            b0 = float(np.interp(0.0, pattern.v_back_elev_deg, pattern.v_back_gain_dbi))
+            lo = min(h.min(), vf.min(), vb.min())
+            hi = max(h.max(), vf.max(), vb.max())
+            if pattern.method == "additive":  # H plus a convex blend of two differences
+                hi = h.max() + max(0.0, (vf - f0).max(), (vb - b0).max())
+            tables = _CutTables(_METHOD_CODES[pattern.method], nh, h, nv, vf, vb, f0, b0,
+                                float(pattern.min_gain_dbi), float(lo), float(hi))
+    if len(_TABLES) >= _TABLES_SIZE:
+        _TABLES.pop(next(iter(_TABLES)))
+    _TABLES[id(pattern)] = (pattern, tables)
+    return tables
+
+
+def fast_eligible(rad) -> bool:
+    """True when the kernel can evaluate ``rad``: its pattern is a pattern file
+    (:class:`~siteexposure.physics.synthesis.TablePattern`) with a known synthesis method
+    whose cuts are sampled on regular grids of at most :data:`MAX_CELLS` cells."""
+    return _pattern_tables(getattr(rad, "pattern", None)) is not None
+
+
+def _r2_threshold(radius: float) -> float:
+    """The smallest double ``t`` with ``sqrt(t) >= radius`` (sqrt is correctly rounded)."""
+    t = radius * radius
+    while t > 0.0 and math.sqrt(t) >= radius:
+        t = float(np.nextafter(t, 0.0))
+    while math.sqrt(t) < radius:
+        t = float(np.nextafter(t, np.inf))
+    return t
+
+
+@dataclass(frozen=True, eq=False)
+class FarFieldPlan:
+    """What the kernel needs of a set of radiators, prepared once and reused on every chunk.
+
+    Build it with :func:`prepare_far_field`. Per-source arrays have length ``n_source``;
+    the cut tables of all sources are concatenated, source ``i`` owning the ``n[i]`` cells
+    from ``off[i]`` on.
+
+    Attributes
+    ----------
+    radiators : tuple of Radiator
+        The sources, in the order of the weight columns.
+    position_m : ndarray, shape (n_source, 3)
+        Radiation centres (east, north, up). [m]
+    axes : ndarray, shape (n_source, 9)
+        Boresight, left and top unit vectors of each antenna frame, in the site frame. [1]
+    kfac_w : ndarray, shape (n_source,)
+        ``P F / (4 pi)``, so that ``S = kfac G / r^2``. [W]
+    r2_min_m2 : ndarray, shape (n_source,)
+        Smallest squared distance that is outside the reactive near field. [m^2]
+    method : ndarray of int64
+        0 additive, 1 weighted bilinear.
+    gain_floor_dbi, vf0_dbi, vb0_dbi : ndarray, shape (n_source,)
+        Lowest gain of the data (floor of the additive rule) and the front and back
+        vertical cuts at the horizon. [dBi]
+    h_node, h_slope, h_off, h_n : ndarray
+        Horizontal cuts on regular grids of ``h_n[i]`` cells over 0..360 deg: the value at
+        the start of each cell and its rise to the next node. [dBi]
+    vf_node, vf_slope, vb_node, vb_slope, v_off, v_n : ndarray
+        Front and back vertical cuts on one regular grid per source over -90..90 deg. [dBi]
+    exp_table : ndarray
+        ``exp_table[j] = 10**(0.1 (j + exp_k0) / 10)`` over the gains that can occur. [1]
+    exp_k0 : int
+        Tenths of a dB of ``exp_table[0]``.
+    """
+
+    radiators: tuple
+    position_m: np.ndarray
+    axes: np.ndarray
+    kfac_w: np.ndarray
+    r2_min_m2: np.ndarray
+    method: np.ndarray
+    gain_floor_dbi: np.ndarray
+    vf0_dbi: np.ndarray
+    vb0_dbi: np.ndarray
+    h_node: np.ndarray
+    h_slope: np.ndarray
+    h_off: np.ndarray
+    h_n: np.ndarray
+    vf_node: np.ndarray
+    vf_slope: np.ndarray
+    vb_node: np.ndarray
+    vb_slope: np.ndarray
+    v_off: np.ndarray
+    v_n: np.ndarray
+    exp_table: np.ndarray
+    exp_k0: int
+
+    @property
+    def n_source(self) -> int:
+        """Number of sources. [1]"""
+        return len(self.radiators)
+
+
+def prepare_far_field(radiators: Sequence) -> FarFieldPlan:
+    """Tables of the fused kernel for ``radiators`` (all :func:`fast_eligible`).
+
+    Parameters
+    ----------
+    radiators : sequence of Radiator
+        Sources in the order of the weight columns.
+
+    Returns
+    -------
+    FarFieldPlan
+
+    Raises
+    ------
+    PatternError
+        A radiator whose pattern the kernel cannot take (names its index and pattern).
+    """
+    from siteexposure.errors import PatternError
+    from siteexposure.physics.farfield import reactive_near_field_radius_m
+    from siteexposure.physics.orientation import antenna_axes
+
+    rads = tuple(radiators)
+    tabs = []
+    for i, rad in enumerate(rads):
+        tab = _pattern_tables(getattr(rad, "pattern", None))
+        if tab is None:
+            pat = getattr(rad, "pattern", None)
+            raise PatternError(
+                f"far-field fast path: source {i} has pattern {getattr(pat, 'name', pat)!r} "
+                f"of type {type(pat).__name__}; expected a pattern-file pattern (TablePattern, "
+                f"method {' or '.join(_METHOD_CODES)}) sampled on a regular grid of at most "
+                f"{MAX_CELLS} cells per cut"
+            )
+        tabs.append(tab)
+    ns = len(rads)
+
+    def col(values, dtype=float, width=None):
+        arr = np.array(list(values), dtype=dtype)
+        return np.ascontiguousarray(arr.reshape((ns,) if width is None else (ns, width)))
+
+    def cat(parts):
+        return np.ascontiguousarray(np.concatenate([np.zeros(0), *parts]))
+
+    def offsets(sizes):
+        return np.ascontiguousarray(np.concatenate(([0], np.cumsum(sizes)))[:ns], dtype=np.int64)
+
+    radius = [float(reactive_near_field_radius_m(r.largest_dimension_m, r.wavelength_m))
+              for r in rads]
+    g_lo = min((t.lo_dbi for t in tabs), default=0.0)
+    g_hi = max((t.hi_dbi for t in tabs), default=0.0)
+    k0 = int(math.floor(10.0 * g_lo)) - 2
+    k = np.arange(k0, int(math.floor(10.0 * g_hi)) + 3)
+    return FarFieldPlan(
+        radiators=rads,
+        position_m=col((np.asarray(r.position_m, dtype=float).reshape(3) for r in rads), width=3),
+        axes=col((np.concatenate([np.ravel(v) for v in
+                                  antenna_axes(r.azimuth_deg, r.mechanical_tilt_deg)])
+                  for r in rads), width=9),
+        kfac_w=col(float(r.power_w) * float(r.reflection_factor) / (4.0 * np.pi) for r in rads),
+        r2_min_m2=col(_r2_threshold(x) for x in radius),
+        method=col((t.method for t in tabs), np.int64),
+        gain_floor_dbi=col(t.floor_dbi for t in tabs),
+        vf0_dbi=col(t.vf0_dbi for t in tabs),
+        vb0_dbi=col(t.vb0_dbi for t in tabs),
+        h_node=cat(t.h_dbi[:-1] for t in tabs),
+        h_slope=cat(np.diff(t.h_dbi) for t in tabs),
+        h_off=offsets([t.h_cells for t in tabs]),
+        h_n=col((t.h_cells for t in tabs), np.int64),
+        vf_node=cat(t.vf_dbi[:-1] for t in tabs),
+        vf_slope=cat(np.diff(t.vf_dbi) for t in tabs),
+        vb_node=cat(t.vb_dbi[:-1] for t in tabs),
+        vb_slope=cat(np.diff(t.vb_dbi) for t in tabs),
+        v_off=offsets([t.v_cells for t in tabs]),
+        v_n=col((t.v_cells for t in tabs), np.int64),
+        exp_table=np.power(10.0, (0.1 * k) / 10.0),
+        exp_k0=k0,
+    )
+
+
+# -- public entry points ----------------------------------------------------------------------
+
+
+def _points_and_weights(points_enu, weights, n_source: int) -> tuple[np.ndarray, np.ndarray]:
+    from siteexposure.errors import InputError
+
+    pts = np.asarray(points_enu, dtype=float)
+    w = np.asarray(weights, dtype=float)
+    w = w.reshape(1, -1) if w.ndim == 1 else w
+    if pts.ndim < 1 or pts.shape[-1] != 3:
+        raise InputError(f"field points: array of shape {pts.shape}; expected (n_point, 3)")
+    if w.ndim != 2 or w.shape[1] != n_source:
+        raise InputError(f"weights: array of shape {w.shape}; expected (n_combo, {n_source})")
+    return np.ascontiguousarray(pts.reshape(-1, 3)), np.ascontiguousarray(w)
+
+
+def far_field_ratio_sums_reference(radiators, points_enu, weights) -> np.ndarray:
+    """Weighted far-field exposure-ratio sums with the package's own numpy far-field model.
+
+    The plain reference of :func:`far_field_ratio_sums`: source by source,
+    :func:`siteexposure.physics.farfield.farfield_power_density` on chunks of
+    :data:`REFERENCE_CHUNK` points, masked inside the reactive near field as
+    :func:`siteexposure.physics.sources.power_density` masks it, and added into the sums.
+
+    Parameters
+    ----------
+    radiators : sequence of Radiator or FarFieldPlan
+        The sources (any pattern), in the order of the weight columns.
+    points_enu : array_like, shape (n_point, 3)
+        Field points (east, north, up) in the site frame. [m]
+    weights : array_like, shape (n_combo, n_source)
+        Weight of each source in each combination, e.g. ``1 / S_limit``. [m^2/W]
+
+    Returns
+    -------
+    ndarray, shape (n_combo, n_point)
+        ``sum_i W[c, i] S_i(p)``; NaN where a source with non-zero (or NaN) weight in row
+        ``c`` cannot be assessed at ``p`` (reactive near field). [1]
+
+    References
+    ----------
+    FCC OET Bulletin 65, Ed. 97-01, Section 2, eqs. (3) and (6) (from memory).
+    """
+    from siteexposure.physics.farfield import farfield_power_density, reactive_near_field_radius_m
+
+    rads = radiators.radiators if isinstance(radiators, FarFieldPlan) else tuple(radiators)
+    pts, w = _points_and_weights(points_enu, weights, len(rads))
+    out = np.zeros((w.shape[0], pts.shape[0]))
+    bad = np.zeros(out.shape, dtype=bool)
+    touched = w != 0.0  # NaN weights count as weighted
+    radii = [float(reactive_near_field_radius_m(r.largest_dimension_m, r.wavelength_m)) for r in rads]
+    for start in range(0, pts.shape[0], REFERENCE_CHUNK):
+        sl = slice(start, start + REFERENCE_CHUNK)
+        p = pts[sl]
+        for i, rad in enumerate(rads):
+            s = farfield_power_density(rad, p)
+            d = p - np.asarray(rad.position_m, dtype=float)
+            ok = (np.sqrt(np.einsum("ij,ij->i", d, d)) >= radii[i]) & np.isfinite(s)
+            out[:, sl] += w[:, i : i + 1] * np.where(ok, s, 0.0)[None, :]
+            if not ok.all():
+                bad[:, sl] |= touched[:, i : i + 1] & ~ok[None, :]
+    out[bad] = np.nan
+    return out
+
+
+def far_field_ratio_sums(radiators, points_enu, weights, *, accelerate: bool | None = None
+                         ) -> np.ndarray:
+    """Weighted far-field exposure-ratio sums of many sources at many points, fused.
+
+    Same quantity, arguments and NaN rule as :func:`far_field_ratio_sums_reference`; the
+    compiled kernel runs when :func:`fast_available` (else the reference does).
+
+    Parameters
+    ----------
+    radiators : sequence of Radiator or FarFieldPlan
+        Sources with pattern-file patterns (:func:`fast_eligible`), or their prepared
+        tables (:func:`prepare_far_field`; prepare once, call per chunk).
+    points_enu : array_like, shape (n_point, 3)
+        Field points (east, north, up) in the site frame. [m]
+    weights : array_like, shape (n_combo, n_source)
+        Weight of each source in each combination. [m^2/W]
+    accelerate : bool, optional
+        Force the kernel (True; raises if numba is missing) or the reference (False).
+
+    Returns
+    -------
+    ndarray, shape (n_combo, n_point)
+        ``sum_i W[c, i] P_i G_i F_i / (4 pi r_i^2)``, NaN where not assessable. [1]
+
+    Raises
+    ------
+    PatternError
+        A source whose pattern is not a pattern file.
+    InputError
+        Arrays of the wrong shape, or ``accelerate=True`` without numba.
+
+    References
+    ----------
+    FCC OET Bulletin 65, Ed. 97-01, Section 2, eqs. (3) and (6) (from memory); 3GPP TR
+    38.901 V17.0.0 Table 7.3-1 and Gil et al. (2001) for the pattern synthesis.
+    """
+    from siteexposure.errors import InputError
+
+    use = fast_available() if accelerate is None else bool(accelerate)
+    if use and _numba is None:
+        raise InputError("far-field fast path: accelerate=True but numba is not installed; "
+                         "expected the 'fast' extra (pip install numba) or accelerate=None")
+    plan = radiators if isinstance(radiators, FarFieldPlan) else prepare_far_field(radiators)
+    if not use:
+        return far_field_ratio_sums_reference(plan, points_enu, weights)
+    pts, w = _points_and_weights(points_enu, weights, plan.n_source)
+    out = np.empty((w.shape[0], pts.shape[0]))
+    if pts.shape[0] == 0 or w.shape[0] == 0:
+        return out
+    if plan.n_source == 0:
+        out[:] = 0.0
+        return out
+    _ratio_kernel(pts, plan.position_m, plan.axes, plan.kfac_w, plan.r2_min_m2, plan.method,
+                  plan.gain_floor_dbi, plan.vf0_dbi, plan.vb0_dbi, plan.h_node, plan.h_slope,
+                  plan.h_off, plan.h_n, plan.vf_node, plan.vf_slope, plan.vb_node, plan.vb_slope,
+                  plan.v_off, plan.v_n, plan.exp_table, plan.exp_k0, w, out)
+    return out
+
+
+_PLANS: dict = {}  # id tuple -> (radiators, plan); the radiators are held so ids stay unique
+_PLANS_SIZE = 8
+
+
+def _cached_plan(rads: tuple) -> FarFieldPlan:
+    key = tuple(id(r) for r in rads)
+    hit = _PLANS.get(key)
+    if hit is not None and all(a is b for a, b in zip(hit[0], rads, strict=True)):
+        return hit[1]
+    plan = prepare_far_field(rads)
+    if len(_PLANS) >= _PLANS_SIZE:
+        _PLANS.pop(next(iter(_PLANS)))
+    _PLANS[key] = (rads, plan)
+    return plan
+
+
+def _nan_weighted_sums(s: np.ndarray, weights: np.ndarray) -> np.ndarray:
+    """``weights @ s``, NaN where a weighted source is NaN (the rule of ``weighted_sums``)."""
+    bad = np.isnan(s)
+    r = weights @ np.where(bad, 0.0, s)
+    if bad.any():
+        touched = (weights != 0).astype(float) @ bad.astype(float)
+        r[touched > 0] = np.nan
+    return r
+
+
+def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
+    """Weighted exposure-ratio sums of the engine's sources, fused where possible.
+
+    Sources whose chosen model is ``far-field`` and whose pattern is a pattern file go
+    through :func:`far_field_ratio_sums` (compiled kernel or numpy reference); every other
+    source through :func:`siteexposure.physics.sources.power_density`. The result equals
+    ``weighted_sums(densities(sources, points), weights)`` of
+    :mod:`siteexposure.engine.evaluate`.
+
+    Parameters
+    ----------
+    sources : sequence
+        Objects with ``radiator`` (Radiator) and ``choice`` (ModelChoice), e.g.
+        :class:`siteexposure.engine.evaluate.Source`.
+    points_enu : array_like, shape (n_point, 3)
+        Field points in the site frame. [m]
+    weights : array_like, shape (n_combo, n_source)
+        Weight of each source in each combination. [m^2/W]
+
+    Returns
+    -------
+    ndarray, shape (n_combo, n_point)
+        Exposure ratios; NaN where a weighted source is not assessable. [1]
+    """
+    srcs = list(sources)
+    pts, w = _points_and_weights(points_enu, weights, len(srcs))
+    fast = [i for i, s in enumerate(srcs)
+            if getattr(s.choice, "word", None) == "far-field" and fast_eligible(s.radiator)]
+    rest = [i for i in range(len(srcs)) if i not in set(fast)]
+    out = np.zeros((w.shape[0], pts.shape[0]))
+    if fast:
+        plan = _cached_plan(tuple(srcs[i].radiator for i in fast))
+        out = far_field_ratio_sums(plan, pts, w[:, fast])
+    if rest:
+        from siteexposure.physics.sources import power_density
+
+        s = np.empty((len(rest), pts.shape[0]))
+        for k, i in enumerate(rest):
+            s_i, ok = power_density(srcs[i].radiator, srcs[i].choice, pts)
+            s[k] = np.where(ok, s_i, np.nan)
+        out = out + _nan_weighted_sums(s, w[:, rest])
+    return out
