@@ -23,14 +23,19 @@ Element pattern (design and justification)
   suppression) are averaged. Because the fit is made on the far field of the same column,
   the model's far-field limit reproduces the vertical cut and its beamwidth for the given
   aperture height.
-* Azimuth shape: the element power factor ``e(phi, el)`` of :func:`_element_table`, the
-  horizontal cut relative to boresight combined with the back/front difference of the
-  vertical cuts (3GPP TR 38.901 additive form), common to all sub-sources and evaluated at
-  the direction of the point from the radiation centre: exact on the horizontal cut and on
-  the front cut, close on the back cut.
-* Far-field residual: the fit's remaining error on the front cut is corrected as
-  ``C(el)`` (within +-3 dB), phased in with ``(r / R_ff)^2`` so that it acts fully from the
-  far-field range on and hardly at all close in.
+* Azimuth shape: an element power factor common to all sub-sources, evaluated at the
+  direction of the point from the radiation centre (:func:`_element_table`). Close in it
+  is ``e_near``: the horizontal cut relative to boresight combined with the back/front
+  difference of the enveloped vertical cuts (3GPP TR 38.901 additive form), smooth because
+  the lobes and nulls of the far-field cuts have not formed there yet. Its far-field limit
+  ``e_far`` is the pattern's own synthesised 3-D gain over its front cut (interpolated in
+  elevation across nulls), so that far out the model's gain is the pattern's 3-D gain off
+  the cut planes as well as on them.
+* Far field: the factor in use is ``e_near^(1-beta) (C e_far)^beta`` with
+  ``beta = min(1, (r / R_ff)^2)``, ``C(el)`` the taper fit's remaining error on the front
+  cut (within +-3 dB): the near-field element close in, and from the far-field range on
+  the pattern itself (joined continuously). Radiated power is normalised with the far-field
+  form.
 
 Validity and assumptions
 ------------------------
@@ -80,7 +85,9 @@ SOFT_MAX_SUB_SOURCES = 48  #: above this the spacing grows towards lambda/2 [1]
 FIT_FLOOR_DB = 30.0  #: the taper fit looks at the vertical cut down to peak - 30 dB [dB]
 _AZ_STEP_DEG = 1.0
 CORRECTION_MAX_DB = 3.0  #: largest far-field correction of the taper fit's residual [dB]
-ENVELOPE_DEG = 5.0  #: half-width of the cut envelopes of the element factor [deg]
+ENVELOPE_DEG = 5.0  #: half-width of the cut envelopes of the near-field element factor [deg]
+NULL_DEPTH_DB = 6.0  #: a sample this far below the lobes on both sides is in a null [dB]
+NULL_HALF_WIDTH_DEG = 10.0  #: how far to each side the lobes of a null are looked for [deg]
 _FIT_STEP_DEG = 0.5
 _CHUNK_ELEMENTS = 1_500_000  # (n_sub x n_point) block size of the near-field sum
 
@@ -156,20 +163,47 @@ def _envelope_db(v_db, el, half_width_deg) -> np.ndarray:
     return win.max(axis=1)
 
 
-def _element_table(pattern) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Element power factor on a 1 deg (phi, el) grid and the front vertical cut (linear).
+def _null_mask(g_db, half_width_deg, step_deg) -> np.ndarray:
+    """Samples of each row lying in a null: more than :data:`NULL_DEPTH_DB` below the lower
+    of the largest values within ``half_width_deg`` on either side (rows along the last axis).
+    """
+    m = max(1, int(round(half_width_deg / step_deg)))
+    pad = np.pad(g_db, [(0, 0)] * (g_db.ndim - 1) + [(m, m)], mode="edge")
+    win = np.lib.stride_tricks.sliding_window_view(pad, m + 1, axis=-1)
+    left = win[..., : g_db.shape[-1], :].max(axis=-1)
+    right = win[..., m:, :].max(axis=-1)
+    return np.minimum(left, right) - g_db > NULL_DEPTH_DB
 
-    Returns ``(table, el, g_v)``. With the cuts in dB floored at :data:`FIT_FLOOR_DB` below
-    the peak, ``h(phi) = H(phi) - H(0)``, ``dv(el) = env Vb(el) - env Vf(el)`` (upper
-    envelopes over +-:data:`ENVELOPE_DEG`, so that a null of one cut does not make the ratio
-    jump) and the back weight ``w(phi) = sin^2(phi/2)``::
 
-        e_dB(phi, el) = min(0, h(phi) + w(phi) [dv(el) - dv(0)])
+def _element_table(pattern) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Element power factors on a 1 deg (phi, el) grid and the front vertical cut (linear).
+
+    Returns ``(near, far, el, g_v)``; ``g_v`` is the front cut at ``el`` (0.5 deg steps)
+    [rad]. With the cuts in dB floored at :data:`FIT_FLOOR_DB` below the peak:
+
+    ``near`` -- a smooth element factor for the radiating near field. With
+    ``h(phi) = H(phi) - H(0)``, ``dv(el) = env Vb(el) - env Vf(el)`` (upper envelopes over
+    +-:data:`ENVELOPE_DEG`, so that a null of one cut does not make the ratio jump) and the
+    back weight ``w(phi) = sin^2(phi/2)``::
+
+        e_near_dB(phi, el) = min(0, h(phi) + w(phi) [dv(el) - dv(0)])
 
     the 3GPP TR 38.901 (Table 7.3-1) additive combination written relative to the front
     cut: exact on the horizontal cut and on the front cut, and on the back cut to within
-    the envelope; 0 dB for an omnidirectional antenna. ``g_v`` is the front cut at ``el``
-    (0.5 deg steps) [rad], [1].
+    the envelope. Close in, the lobes and nulls of the far-field cuts have not formed yet,
+    so the envelope is the better element there.
+
+    ``far`` -- the far-field limit. With ``G(phi, el)`` the pattern's own 3-D gain in dB (the
+    synthesis rule it was read with, or a parametric model)::
+
+        e_far_dB(phi, el) = G(phi, el) - G(0, el)
+
+    the pattern relative to its own front cut, so that the column's far field (which follows
+    the front cut) times ``e_far`` is the pattern's 3-D gain. Where the front cut or the row
+    ``G(phi, .)`` is in a null (:func:`_null_mask`: deeper than :data:`NULL_DEPTH_DB` below
+    the lobes within +-:data:`NULL_HALF_WIDTH_DEG`) the ratio is ill-defined: there it is
+    interpolated linearly in elevation from the neighbouring samples, so that a null of one
+    cut becomes neither a spike nor a hole. Both are 0 dB for an omnidirectional antenna. [1]
     """
     phi = np.deg2rad(np.arange(0.0, 360.0, _AZ_STEP_DEG))
     el_t = np.deg2rad(np.arange(-90.0, 90.5, 1.0))
@@ -179,8 +213,20 @@ def _element_table(pattern) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     dv = _envelope_db(vb_t, el_t, ENVELOPE_DEG) - _envelope_db(vf_t, el_t, ENVELOPE_DEG)
     dv0 = float(dv[90])
     w = np.sin(0.5 * phi) ** 2
-    table_db = np.minimum(0.0, (h - h[0])[:, None] + w[:, None] * (dv - dv0)[None, :])
-    return 10.0 ** (table_db / 10.0), el, 10.0 ** (g_v_db / 10.0)
+    near_db = np.minimum(0.0, (h - h[0])[:, None] + w[:, None] * (dv - dv0)[None, :])
+    g3 = _db(pattern.gain(phi[:, None], el_t[None, :]))
+    if not np.all(np.isfinite(g3)):
+        raise InputError(f"pattern '{getattr(pattern, 'name', '?')}': 3-D gain is not finite; "
+                         "expected a usable gain pattern")
+    g3 = np.maximum(g3, g3.max() - FIT_FLOOR_DB)
+    far_db = g3 - g3[0][None, :]
+    bad = _null_mask(g3, NULL_HALF_WIDTH_DEG, 1.0) | _null_mask(g3[0], NULL_HALF_WIDTH_DEG,
+                                                                 1.0)[None, :]
+    x = np.arange(el_t.size, dtype=float)
+    for i in np.flatnonzero(bad.any(axis=1) & ~bad.all(axis=1)):
+        keep = ~bad[i]
+        far_db[i] = np.interp(x, x[keep], far_db[i, keep])
+    return 10.0 ** (near_db / 10.0), 10.0 ** (far_db / 10.0), el, 10.0 ** (g_v_db / 10.0)
 
 
 def _fit_taper(z_m, k, el, g_v, tilt_rad) -> tuple[np.ndarray, float]:
@@ -266,7 +312,12 @@ class ArraySynthesis:
     moments : ndarray, shape (n_sub,)
         Complex current moments ``I l`` (peak phasors), scaled to the radiated power. [A m]
     element_table : ndarray, shape (360, 181)
-        Element power factor ``e(phi, el)`` on a 1 deg grid, phi 0..359, el -90..90. [1]
+        Near-field element power factor ``e_near(phi, el)`` on a 1 deg grid, phi 0..359,
+        el -90..90 (:func:`_element_table`). [1]
+    element_table_far : ndarray, shape (360, 181)
+        Its far-field limit ``e_far(phi, el)``, the pattern's 3-D gain over its front cut;
+        the factor in use is ``e_near^(1 - beta) e_far^beta``, ``beta = min(1, (r/R_ff)^2)``.
+        [1]
     vertical_correction : ndarray, shape (181,)
         Far-field correction ``C(el)`` of the taper fit's residual on the front cut (within
         +-:data:`CORRECTION_MAX_DB`), el -90..90 in 1 deg steps. [1]
@@ -293,6 +344,7 @@ class ArraySynthesis:
     z_m: np.ndarray
     moments: np.ndarray
     element_table: np.ndarray
+    element_table_far: np.ndarray
     vertical_correction: np.ndarray
     far_field_range_m: float
     reflection_factor: float
@@ -333,7 +385,7 @@ class ArraySynthesis:
         if not (np.isfinite(rad.frequency_hz) and rad.frequency_hz > 0):
             raise InputError(f"antenna frequency = {rad.frequency_hz!r} Hz: expected > 0")
         lam = C0 / rad.frequency_hz
-        z, unit, table, corr, p_unit, u_peak, tilt = _column_shape(
+        z, unit, table, table_far, corr, p_unit, u_peak, tilt = _column_shape(
             rad.pattern, float(rad.frequency_hz), float(h), float(rad.electrical_tilt_deg)
         )
         scale = np.sqrt(rad.power_w / p_unit) if rad.power_w > 0 else 0.0
@@ -345,6 +397,7 @@ class ArraySynthesis:
             z_m=z,
             moments=unit * scale,
             element_table=table,
+            element_table_far=table_far,
             vertical_correction=corr,
             far_field_range_m=far_field_range_m(lam, rad.largest_dimension_m or h),
             reflection_factor=float(rad.reflection_factor),
@@ -356,16 +409,22 @@ class ArraySynthesis:
         )
 
     # ------------------------------------------------------------------ evaluation
-    def _element(self, phi, theta) -> np.ndarray:
-        """Element power factor e(phi, el), bilinear on its 1 deg grid (radians). [1]"""
-        return _lookup(self.element_table, phi, theta)
+    def _factor(self, phi, theta, r) -> np.ndarray:
+        """``[e_far C / e_near]^beta e_near`` at pattern angles (radians) and range ``r``. [1]
 
-    def _correction(self, theta, r) -> np.ndarray:
-        """``C(el)^beta`` with ``beta = min(1, (r / R_ff)^2)``. [1]"""
+        ``beta = min(1, (r / R_ff)^2)``: the smooth near-field element factor close in, the
+        pattern's own 3-D gain (and the taper fit's residual correction ``C``) from the
+        far-field range on.
+        """
+        near, far = _lookup(self.element_table, phi, theta, self.element_table_far)
         el = np.clip(np.rad2deg(np.asarray(theta, dtype=float)), -90.0, 90.0) + 90.0
         c = np.interp(el, np.arange(181.0), self.vertical_correction)
         beta = np.minimum(1.0, (np.asarray(r, dtype=float) / self.far_field_range_m) ** 2)
-        return c**beta
+        if np.all(beta == 1.0):
+            return far * c
+        if not np.any(beta):
+            return near
+        return near * (far * c / near) ** beta
 
     def far_field_gain(self, phi, theta) -> np.ndarray:
         """Power gain of the model's own far field at pattern angles (radians). [1]"""
@@ -375,8 +434,7 @@ class ArraySynthesis:
         k = 2.0 * np.pi / self.wavelength_m
         af = np.exp(1j * k * np.multiply.outer(np.sin(theta), self.z_m)) @ self.moments
         const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
-        u = const * np.abs(af * np.cos(theta)) ** 2 * self._element(phi, theta)
-        u = u * self._correction(theta, np.inf)
+        u = const * np.abs(af * np.cos(theta)) ** 2 * self._factor(phi, theta, np.inf)
         return 4.0 * np.pi * u / self.power_w
 
     def power_density(self, points_enu) -> tuple[np.ndarray, np.ndarray]:
@@ -421,7 +479,7 @@ class ArraySynthesis:
         step = max(1, _CHUNK_ELEMENTS // self.z_m.size)
         for i0 in range(0, idx.size, step):
             sel = idx[i0 : i0 + step]
-            e = self._element(phi[sel], theta[sel]) * self._correction(theta[sel], r[sel])
+            e = self._factor(phi[sel], theta[sel], r[sel])
             s[sel] = self._density(rho[sel], za[sel]) * e
         return s.reshape(shape) * self.reflection_factor, ok.reshape(shape)
 
@@ -442,8 +500,11 @@ class ArraySynthesis:
         return (np.abs(e_rho) ** 2 + np.abs(e_z) ** 2) / (2.0 * ETA0)
 
 
-def _lookup(table, phi, theta) -> np.ndarray:
-    """Bilinear interpolation of a (360, 181) table on 1 deg steps, periodic in phi. [1]"""
+def _lookup(table, phi, theta, other=None):
+    """Bilinear interpolation of a (360, 181) table on 1 deg steps, periodic in phi. [1]
+
+    With ``other`` (a second table of the same grid) returns both interpolations.
+    """
     n_phi, n_el = table.shape
     x = np.mod(np.rad2deg(np.asarray(phi, dtype=float)), 360.0) / _AZ_STEP_DEG
     y = np.clip(np.rad2deg(np.asarray(theta, dtype=float)), -90.0, 90.0) + 90.0
@@ -452,10 +513,15 @@ def _lookup(table, phi, theta) -> np.ndarray:
     tx, ty = x - i0, y - j0
     i0 %= n_phi
     i1 = (i0 + 1) % n_phi
-    flat = table.ravel()
-    g00, g01 = flat[i0 * n_el + j0], flat[i0 * n_el + j0 + 1]
-    g10, g11 = flat[i1 * n_el + j0], flat[i1 * n_el + j0 + 1]
-    return (1 - tx) * ((1 - ty) * g00 + ty * g01) + tx * ((1 - ty) * g10 + ty * g11)
+    k00, k10 = i0 * n_el + j0, i1 * n_el + j0
+    w00, w01, w10, w11 = (1 - tx) * (1 - ty), (1 - tx) * ty, tx * (1 - ty), tx * ty
+
+    def at(flat):
+        return w00 * flat[k00] + w01 * flat[k00 + 1] + w10 * flat[k10] + w11 * flat[k10 + 1]
+
+    if other is None:
+        return at(table.ravel())
+    return at(table.ravel()), at(other.ravel())
 
 
 @functools.lru_cache(maxsize=32)
@@ -495,7 +561,8 @@ def _column_shape(pattern, frequency_hz: float, h: float, electrical_tilt_deg: f
     Antennas of a site that share a pattern object, frequency, aperture height and tilt
     (the sectors of one operator's band) share one taper fit and one sphere integral;
     only position, orientation and power differ, and those are applied afterwards.
-    Returns ``(z_m, unit_moments, element_table, vertical_correction, p_unit, u_peak, tilt)``.
+    Returns ``(z_m, unit_moments, element_table, element_table_far, vertical_correction,
+    p_unit, u_peak, tilt)``.
     """
     key = (id(pattern), frequency_hz, h, electrical_tilt_deg)
     hit = _SHAPES.get(key)
@@ -506,7 +573,7 @@ def _column_shape(pattern, frequency_hz: float, h: float, electrical_tilt_deg: f
     n = n_sub_sources(h, lam)
     d = h / n
     z = (np.arange(n) + 0.5) * d - 0.5 * h
-    table, el, g_v = _element_table(pattern)
+    table, table_far, el, g_v = _element_table(pattern)
     tilt_data = float(getattr(pattern, "electrical_tilt_deg", 0.0) or 0.0)
     # a table pattern carries its own tilt; a parametric one is built with the radiator's
     tilt = tilt_data if hasattr(pattern, "h_angle_deg") else float(electrical_tilt_deg)
@@ -522,8 +589,8 @@ def _column_shape(pattern, frequency_hz: float, h: float, electrical_tilt_deg: f
     const = (ETA0 * k / (4.0 * np.pi)) ** 2 / (2.0 * ETA0)
     unit = amp * np.sqrt(kk / (4.0 * np.pi * const))
     unit = unit * np.exp(1j * k * z * np.sin(np.deg2rad(tilt)))
-    p_unit, u_peak = _radiated_power(unit, z, k, table * corr[None, :])
-    out = (z, unit, table, corr, p_unit, u_peak, tilt)
+    p_unit, u_peak = _radiated_power(unit, z, k, table_far * corr[None, :])
+    out = (z, unit, table, table_far, corr, p_unit, u_peak, tilt)
     if len(_SHAPES) >= _SHAPES_SIZE:
         _SHAPES.pop(next(iter(_SHAPES)))
     _SHAPES[key] = (pattern, out)  # holding the pattern keeps its id unique

@@ -99,13 +99,25 @@ def test_auto_not_assessable_only_inside_the_reactive_radius(auto_errors):
 
 @pytest.mark.xfail(strict=True, reason=(
     "measured shortfall: in the far field `auto` (array synthesis) has 5th..95th percentile "
-    "-0.28..+0.14 dB but extremes of -1.45 dB and +1.70 dB (collinear side lobes at 1.1 R_ff; "
-    "6 deg tilted panel beside and behind); see tests/data/nec/accuracy.md. Not loosened."))
+    "-0.22..+0.03 dB but extremes of -1.39 dB and +1.97 dB: collinear at el +-20 deg (a "
+    "side-lobe null still filling in at 1.1..2 R_ff, by about 1 dB more than the model's real "
+    "taper fills it) and the 6 deg tilted panel beside and behind (its vertical beam shape "
+    "there matches neither cut); see tests/data/nec/accuracy.md. Not loosened."))
 def test_far_field_region_within_half_a_db_everywhere(auto_errors):
     """Issue 3: within +-0.5 dB in the far field at every judged point."""
     for name, (err, region) in auto_errors.items():
         e = err[(region == 2) & np.isfinite(err)]
         assert np.max(np.abs(e)) <= 0.5, f"{name}: {np.max(np.abs(e)):.2f} dB"
+
+
+def test_far_field_of_the_untilted_panel_within_half_a_db(auto_errors):
+    """Issue 3 far-field criterion (+-0.5 dB for R >= max(2 L^2/lambda, 3 lambda, 5 L)) met
+    for the half-wave dipole and the untilted panel: beyond the far-field range the array
+    model's element factor is the pattern's own 3-D gain (PyNEC reference, judged points)."""
+    for name in ("dipole", "panel"):
+        err, region = auto_errors[name]
+        e = err[(region == 2) & np.isfinite(err)]
+        assert e.size > 0 and np.max(np.abs(e)) <= 0.5, f"{name}: {np.max(np.abs(e)):.2f} dB"
 
 
 def test_accuracy_statement_is_current(auto_errors):
