@@ -8,6 +8,8 @@ ratios from several transmitters are summed, and the limit tables with their cit
 
 from __future__ import annotations
 
+from xml.sax.saxutils import escape
+
 from siteexposure.writers import accuracy
 from siteexposure.writers.json_out import _num as json_round
 from siteexposure.writers.report_context import ReportContext
@@ -81,7 +83,8 @@ def method(ctx: ReportContext) -> list:
                 "antenna (the inventory gives the choice and its reason). Models used here:")]
     for mid, ids in used.items():
         text = MODEL_TEXT.get(mid, "No description available for this model.")
-        out += bullets([f"<b>{mid}</b> (antennas {', '.join(ids)}): {text}"], markup=True)
+        out += bullets([f"<b>{escape(mid)}</b> (antennas {escape(', '.join(ids))}): "
+                        f"{escape(text)}"], markup=True)
     out.append(para("Points closer to an antenna than its reactive near-field radius, "
                     "max(λ/2π, 0.62·√(D³/λ)) with D the largest aperture dimension, cannot be "
                     "assessed by these models. They are reported as not assessable and are "

@@ -289,6 +289,26 @@ def _remedy_rows(b: dict, n_antennas: int) -> list[list]:
     return rows
 
 
+def _barrier_items(ctx: ReportContext) -> list[str]:
+    """One sentence per public area and limit set that needs a barrier."""
+    unknown_only = {(z["area"], z["set_id"]) for z in zone_rows(ctx.zones)
+                    if z["kind"] == "general-limit" and z["only_unknown"]}
+    items = []
+    for sid, entry in ctx.barriers.items():
+        for name, length in entry.get("by_area_m", {}).items():
+            if not length or length <= 0:
+                continue
+            text = (f"{name} ({sid}): a barrier about {metres(json_round(length, 4))} long along "
+                    "the boundary of the zone above the general-public limit, as drawn on the "
+                    "plan map; the public stays outside it.")
+            if (name, sid) in unknown_only:
+                text += (" That zone is only the part of the area these models cannot assess "
+                         "(no computed value there exceeds the limit): the reviewer decides "
+                         "whether a barrier or a measurement is needed.")
+            items.append(text)
+    return items
+
+
 def _access_point_rows(ctx: ReportContext) -> list[list]:
     """Per area and limit set: the highest computed category, and what is not assessable."""
     zones = zone_rows(ctx.zones)
@@ -327,12 +347,9 @@ def mitigation(ctx: ReportContext) -> list:
                     "'not possible alone' where the others already exceed the limit without it.",
                     "small"))
     out.append(para("Barrier placement", "H2"))
-    rows = _barrier_rows(ctx)
-    if any(float(r[2]) > 0 for r in rows if r[2] != "n/a"):
-        out += bullets([f"{r[1]} ({r[0]}): a barrier about {metres(float(r[2]))} long along the "
-                        "boundary of the zone above the general-public limit, as drawn on the "
-                        "plan map; the public stays outside it." for r in rows
-                        if r[2] != "n/a" and float(r[2]) > 0])
+    items = _barrier_items(ctx)
+    if items:
+        out += bullets(items)
     else:
         out.append(para("No zone above the general-public limit lies inside a public area: no "
                         "barrier is needed on these inputs."))
@@ -356,7 +373,7 @@ def mitigation(ctx: ReportContext) -> list:
                       z["sign_word"] or "-", note])
     if zrows:
         out.append(table(["area", "limit set", "zone", "category", "sign word", "note"], zrows,
-                         [1.9, 1.1, 1.9, 1.2, 1.1, 2.3], ctx.width))
+                         [1.8, 1.1, 1.9, 1.4, 1.1, 2.2], ctx.width))
     else:
         out.append(para("No zones: every evaluated area is in Category One."))
     out.append(para("Signs at the access points of each area", "H2"))

@@ -382,3 +382,22 @@ def test_overall_finding_matches_the_verdicts_of_screen_json(work):
         assert "no exceedance was found, but some places people can reach could not be" in cover
     else:
         assert "no limit is exceeded anywhere people can reach" in cover
+
+
+def test_names_with_markup_characters_and_long_names_print_as_given(tmp_path):
+    """Site and operator names are text, not markup; a long site name is shortened in the
+    running header only (with an ellipsis), never run off the page."""
+    import dataclasses
+
+    from siteexposure.engine.orchestrator import evaluate_site
+    from siteexposure.writers.report_pdf import write_report
+
+    base = _panel_site()
+    name = "Roof <A> & Sons — Ø 12 ü " + "very long site name " * 8
+    ant = dataclasses.replace(base.antennas[0], operator="Op <B> & Co")
+    site = dataclasses.replace(base, name=name.strip(), antennas=(ant,))
+    pdf = write_report(evaluate_site(site), [], tmp_path / "names.pdf")
+    pages = [flat(t) for t in pages_text(pdf)]
+    assert flat(name) in pages[0]  # the cover prints it whole
+    assert "Op <B> & Co" in " ".join(pages)
+    assert all("Roof <A> & Sons — Ø 12 ü very long" in t and "…" in t for t in pages)
