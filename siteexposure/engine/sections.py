@@ -12,10 +12,15 @@ averaging line of the plan view belongs to people standing on floors), summed ov
 antennas of the site, for every (limit set, population), governing over the set's
 regions like the area grids (:func:`siteexposure.engine.combos.governing`); NaN where a
 source that counts is not assessable (reactive near field).
+
+For the maps, :func:`cut_extent` sizes a cut from the antenna's keep-out distances and the
+site's floors, and :func:`adaptive_cut` widens it until the general-public boundary of the
+summed field closes inside it.
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 
 import numpy as np
@@ -23,9 +28,13 @@ import numpy as np
 from siteexposure.containers import Site
 from siteexposure.engine.combos import POPULATIONS, ComboTable, build_combos, governing
 from siteexposure.engine.evaluate import BLOCK_ELEMENTS, Source, densities, weighted_sums
+from siteexposure.engine.result import SiteResult
 from siteexposure.errors import InputError
 
-__all__ = ["cut_points_enu", "elevation_cut"]
+__all__ = ["adaptive_cut", "cut_extent", "cut_points_enu", "elevation_cut"]
+
+CUT_POINT_BUDGET = 8_000  #: plane points of one map's elevation cut (the models are costly)
+CUT_MAX_HALF_M = 120.0  #: widest elevation cut, each side of the antenna [m]
 
 
 def cut_points_enu(site: Site, antenna_id: str, dist_m: np.ndarray, z_m: np.ndarray) -> np.ndarray:
@@ -138,3 +147,68 @@ def elevation_cut(
                 best, _ = governing(values, rows)
                 ratio[(set_id, pop)] = best.reshape(nz, nd)
     return dist, z, ratio
+
+
+def cut_extent(result: SiteResult, antenna_id: str) -> tuple[float, tuple[float, float], float]:
+    """Half width, height range and resolution of an antenna's elevation cut. [m]
+
+    Wide enough for the largest general-public keep-out distance along the boresight
+    (front or behind) and high enough for the one above and below, with the site's
+    floors in view; the resolution keeps the cut within :data:`CUT_POINT_BUDGET` points.
+    """
+    site = result.site
+    rec = next(r for r in result.antennas if r.antenna.id == antenna_id)
+    ant = rec.antenna
+    ko = [d for (_, pop), d in rec.keep_out_m.items() if pop == "general"]
+    horiz = max([max(d.get("front", 0.0), d.get("behind", 0.0)) for d in ko] + [0.0])
+    up = max([d.get("above", 0.0) for d in ko] + [0.0])
+    down = max([d.get("below", 0.0) for d in ko] + [0.0])
+    half = float(min(max(10.0, 1.3 * horiz + 2.0), CUT_MAX_HALF_M))
+    z0 = float(ant.position_m[2])
+    floors = [a.floor_m for a in site.areas] or [z0 - 3.0]
+    lo = max(0.0, min(min(floors) - 1.0, z0 - 1.3 * down - 1.0))
+    hi = max(z0 + 1.3 * up + 1.5, max(floors) + 3.0, z0 + 3.0)
+    lo, hi = _balanced(lo, hi, half)
+    return half, (lo, hi), _cut_resolution(half, lo, hi)
+
+
+def _balanced(lo: float, hi: float, half: float) -> tuple[float, float]:
+    """Grow a height range to at least 0.3 of the cut's width (readable maps). [m]"""
+    need = 0.3 * 2.0 * half
+    if hi - lo < need:
+        lo = max(0.0, lo - 0.5 * (need - (hi - lo)))
+        hi = lo + need
+    return lo, hi
+
+
+def _cut_resolution(half: float, lo: float, hi: float) -> float:
+    """Grid spacing that keeps a cut within :data:`CUT_POINT_BUDGET` points. [m]"""
+    return float(f"{max(0.05, math.sqrt(2 * half * (hi - lo) / CUT_POINT_BUDGET)):.2g}")
+
+
+def adaptive_cut(result: SiteResult, sources: Sequence[Source], antenna_id: str, *,
+                 table: ComboTable | None = None, rounds: int = 3):
+    """The elevation cut of one antenna for its map, widened until the general-public
+    boundary of the summed field (every set) closes inside it, or the width limit
+    :data:`CUT_MAX_HALF_M` is reached.
+
+    :func:`cut_extent` starts from the antenna's own keep-out distances; co-located
+    antennas add up, so the sum can reach further. Returns what :func:`elevation_cut`
+    returns.
+    """
+    half, (lo, hi), res = cut_extent(result, antenna_id)
+    for _ in range(rounds + 1):
+        cut = elevation_cut(result.site, sources, antenna_id, half_width_m=half,
+                            height_range_m=(lo, hi), resolution_m=res, table=table)
+        gen = [g for (_, pop), g in cut[2].items() if pop == "general"]
+        edge = any(np.nanmax(np.r_[g[:, 0], g[:, -1], -np.inf]) > 1.0 for g in gen)
+        top = any(np.nanmax(np.r_[g[-1, :], -np.inf]) > 1.0 for g in gen)
+        if not (edge or top) or half >= CUT_MAX_HALF_M:
+            return cut
+        if edge:
+            half = min(1.6 * half, CUT_MAX_HALF_M)
+        if top:
+            hi = lo + 1.4 * (hi - lo)
+        lo, hi = _balanced(lo, hi, half)
+        res = _cut_resolution(half, lo, hi)
+    return cut

@@ -43,8 +43,6 @@ STYLES = {  # kind -> (linestyle, linewidth, legend text)
 }
 SHORT = {"general-limit": "general limit", "occupational-limit": "occupational limit",
          "occupational-10x": "10x occupational"}
-CUT_POINT_BUDGET = 8_000  #: plane points of one elevation cut (the models are costly)
-CUT_MAX_HALF_M = 120.0  #: widest elevation cut, each side of the antenna [m]
 _DPI = 150
 
 
@@ -123,32 +121,71 @@ def _lines(x, y, z, level: float, clip=None) -> list[np.ndarray]:
     return out
 
 
-def _try_label(ax, piece: np.ndarray, text: str, frac: float, fontsize: float, placed: list):
-    """Put ``text`` on ``piece`` at ``frac`` of its length if it overlaps nothing placed."""
-    seg = np.hypot(*np.diff(piece, axis=0).T)
-    cum = np.concatenate([[0.0], np.cumsum(seg)])
-    s = frac * cum[-1]
-    k = int(np.clip(np.searchsorted(cum, s) - 1, 0, len(seg) - 1))
-    t = (s - cum[k]) / seg[k] if seg[k] > 0 else 0.0
-    xy = piece[k] + t * (piece[k + 1] - piece[k])
-    a, b = ax.transData.transform(piece[k]), ax.transData.transform(piece[k + 1])
-    ang = math.degrees(math.atan2(b[1] - a[1], b[0] - a[0]))  # on screen, kept upright
-    if ang > 90:
-        ang -= 180
-    elif ang <= -90:
-        ang += 180
-    txt = ax.text(xy[0], xy[1], text, fontsize=fontsize, rotation=ang, rotation_mode="anchor",
-                  ha="center", va="center", zorder=8, color="black", clip_on=True,
-                  bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none", "alpha": 0.85})
+class _Segment:
+    """A drawn line segment in screen pixels: an obstacle for labels."""
+
+    def __init__(self, a, b, pad: float):
+        self.a, self.b, self.pad = tuple(a), tuple(b), pad
+
+    def overlaps(self, bb) -> bool:
+        from shapely.geometry import LineString, box
+
+        return LineString([self.a, self.b]).buffer(self.pad).intersects(box(bb.x0, bb.y0, bb.x1, bb.y1))
+
+
+def _arrow_box(ax, start, end, pad: float = 3.0) -> _Segment:
+    """The screen segment of an arrow (an obstacle for label placement)."""
+    return _Segment(ax.transData.transform(start), ax.transData.transform(end), pad)
+
+
+def _hits(bb, placed) -> int:
+    """How many placed boxes or segments the screen box ``bb`` overlaps."""
+    return sum(bool(p.overlaps(bb)) if isinstance(p, _Segment) else bool(bb.overlaps(p)) for p in placed)
+
+
+def _place(ax, attempts, placed: list, *, best_effort: bool = False):
+    """Draw the texts that ``attempts`` (callables) make, one after the other, and keep the
+    first inside the axes that overlaps nothing placed; with ``best_effort`` keep the one
+    with the fewest overlaps when none is free. Returns the text kept, or None."""
     renderer = ax.figure.canvas.get_renderer()
-    bb = txt.get_window_extent(renderer).expanded(1.08, 1.15)
     frame = ax.get_window_extent(renderer)
-    inside = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
-    if not inside or _overlaps_any(bb, placed):
-        txt.remove()
-        return False
-    placed.append(bb)
-    return True
+    best = None
+    for make in attempts:
+        t = make()
+        bb = t.get_window_extent(renderer).expanded(1.06, 1.12)
+        inside = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
+        score = _hits(bb, placed) + (0 if inside else 1000)
+        if best is None or score < best[0]:
+            if best is not None:
+                best[1].remove()
+            best = (score, t, bb)
+        else:
+            t.remove()
+        if score == 0:
+            break
+    if best is None or (best[0] > 0 and not best_effort):
+        if best is not None:
+            best[1].remove()
+        return None
+    placed.append(best[2])
+    return best[1]
+
+
+def _on_line(ax, piece: np.ndarray, text: str, frac: float, fontsize: float):
+    """A text maker: ``text`` on ``piece`` at ``frac`` of its length, along it, upright."""
+    def make():
+        seg = np.hypot(*np.diff(piece, axis=0).T)
+        cum = np.concatenate([[0.0], np.cumsum(seg)])
+        s = frac * cum[-1]
+        k = int(np.clip(np.searchsorted(cum, s) - 1, 0, len(seg) - 1))
+        t = (s - cum[k]) / seg[k] if seg[k] > 0 else 0.0
+        xy = piece[k] + t * (piece[k + 1] - piece[k])
+        a, b = ax.transData.transform(piece[k]), ax.transData.transform(piece[k + 1])
+        ang = (math.degrees(math.atan2(b[1] - a[1], b[0] - a[0])) + 90.0) % 180.0 - 90.0
+        return ax.text(xy[0], xy[1], text, fontsize=fontsize, rotation=ang, rotation_mode="anchor",
+                       ha="center", va="center", zorder=8, color="black", clip_on=True,
+                       bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none", "alpha": 0.85})
+    return make
 
 
 def _label_along(ax, pieces: list[np.ndarray], text: str, fontsize: float, placed: list) -> bool:
@@ -161,9 +198,9 @@ def _label_along(ax, pieces: list[np.ndarray], text: str, fontsize: float, place
     for p in ranked:
         if screen_length(p) < 3.0 * fontsize * len(text) * 0.6:
             break  # too short to carry its label legibly
-        for frac in (0.5, 0.3, 0.7, 0.2, 0.8, 0.4, 0.6, 0.1, 0.9):
-            if _try_label(ax, p, text, frac, fontsize, placed):
-                return True
+        fracs = (0.5, 0.3, 0.7, 0.2, 0.8, 0.4, 0.6, 0.1, 0.9)
+        if _place(ax, [_on_line(ax, p, text, f, fontsize) for f in fracs], placed) is not None:
+            return True
     return False
 
 
@@ -242,7 +279,6 @@ def _draw_antennas_plan(ax, antennas, span: float, fontsize: float, placed: list
     """Discs, boresight arrows and id labels, placed where they overlap nothing drawn yet
     (antennas side by side with the same azimuth share one label)."""
     arrow = 0.07 * span
-    renderer = ax.figure.canvas.get_renderer()
     for a in antennas:
         e, n = float(a.position_m[0]), float(a.position_m[1])
         ue, un = azimuth_unit(a.azimuth_deg)
@@ -257,38 +293,25 @@ def _draw_antennas_plan(ax, antennas, span: float, fontsize: float, placed: list
         cx = float(np.mean([antennas[j].position_m[0] for j in g]))
         cy = float(np.mean([antennas[j].position_m[1] for j in g]))
         ue, un = azimuth_unit(float(antennas[g[0]].azimuth_deg))
-        best = None
-        for dx, dy, ha, va in _label_spots(ue, un, arrow_pt):
-            t = ax.annotate("\n".join(antennas[j].id for j in g), xy=(cx, cy), xytext=(dx, dy),
-                            textcoords="offset points", ha=ha, va=va, fontsize=fontsize, zorder=11,
-                            linespacing=1.0, annotation_clip=True,
-                            bbox={"boxstyle": "round,pad=0.12", "fc": "white", "ec": "0.3",
-                                  "lw": 0.4, "alpha": 0.9})
-            bb = t.get_window_extent(renderer).expanded(1.05, 1.1)
-            hits = sum(_overlaps_any(bb, [p]) for p in placed)
-            if best is None or hits < best[0]:
-                if best is not None:
-                    best[1].remove()
-                best = (hits, t, bb)
-            else:
-                t.remove()
-            if hits == 0:
-                break
-        placed.append(best[2])
+        ids = "\n".join(antennas[j].id for j in g)
+
+        def maker(dx, dy, ha, va, ids=ids, cx=cx, cy=cy):
+            return lambda: ax.annotate(
+                ids, xy=(cx, cy), xytext=(dx, dy), textcoords="offset points", ha=ha, va=va,
+                fontsize=fontsize, zorder=11, linespacing=1.0, annotation_clip=True,
+                bbox={"boxstyle": "round,pad=0.12", "fc": "white", "ec": "0.3", "lw": 0.4, "alpha": 0.9})
+
+        _place(ax, [maker(*spot) for spot in _label_spots(ue, un, arrow_pt)], placed, best_effort=True)
 
 
 def _north_arrow(fig) -> None:
     """North arrow in the top-right margin, outside the map (the map's +y is north)."""
     h = fig.get_figheight()
     fig.text(0.94, 1 - 1.2 / h, "N", ha="center", va="bottom", fontsize=11, fontweight="bold")
-    fig.patches.append(_figure_arrow(fig, (0.94, 1 - 0.95 / h), (0.94, 1 - 0.2 / h)))
-
-
-def _figure_arrow(fig, start, end):
     from matplotlib.patches import FancyArrowPatch
 
-    return FancyArrowPatch(start, end, transform=fig.transFigure, figure=fig,
-                           arrowstyle="-|>", mutation_scale=16, lw=1.6, color="black")
+    fig.patches.append(FancyArrowPatch((0.94, 1 - 0.95 / h), (0.94, 1 - 0.2 / h), transform=fig.transFigure,
+                                       figure=fig, arrowstyle="-|>", mutation_scale=16, lw=1.6, color="black"))
 
 
 def _scale_bar(ax, span: float, loc: str = "lower left") -> None:
@@ -378,6 +401,27 @@ def _new_figure(aspect: float):
     return fig, ax, cax
 
 
+def _map_axes(lo, hi, xlabel: str, ylabel: str):
+    """Figure, map axes (equal aspect, ``lo``..``hi`` in data metres) and colour-bar axes."""
+    fig, ax, cax = _new_figure(float((hi[1] - lo[1]) / (hi[0] - lo[0])))
+    ax.set_aspect("equal", adjustable="box")
+    ax.set_xlim(lo[0], hi[0])
+    ax.set_ylim(lo[1], hi[1])
+    ax.set_facecolor("0.93")
+    ax.set_xlabel(xlabel, fontsize=9)
+    ax.set_ylabel(ylabel, fontsize=9)
+    ax.tick_params(labelsize=8)
+    ax.grid(True, color="white", lw=0.6, zorder=0)
+    ax.apply_aspect()
+    return fig, ax, cax
+
+
+def _mesh(ax, x, y, ratio):
+    """The exposure ratio in dB as cells centred on the grid points."""
+    return ax.pcolormesh(_edges(x), _edges(y), _db(ratio), cmap=CMAP, vmin=DB_RANGE[0],
+                         vmax=DB_RANGE[1], shading="flat", zorder=2, rasterized=True)
+
+
 def _limit_title(result: SiteResult, set_id: str) -> str:
     src = result.limit_sources.get(set_id, {})
     title = src.get("title") or src.get("publication") or ""
@@ -402,7 +446,7 @@ def _view_of_area(site, area) -> tuple[np.ndarray, np.ndarray, list, list]:
     allp = np.vstack([outline] + [np.asarray(a.position_m[:2], float)[None] for a in ants]
                      + [np.asarray(p.at_m[:2], float)[None] for p in recs])
     vlo, vhi = allp.min(axis=0), allp.max(axis=0)
-    pad = 0.07 * float(max(vhi - vlo)) + 1.0
+    pad = 0.12 * float(max(vhi - vlo)) + 1.5  # room for the boresight arrows and their labels
     return vlo - pad, vhi + pad, ants, recs
 
 
@@ -425,16 +469,7 @@ def _plan_figure(result: SiteResult, zones: list, ar, set_id: str):
     span = float(max(vhi - vlo))
     fs = 7.5
 
-    fig, ax, cax = _new_figure(float((vhi[1] - vlo[1]) / (vhi[0] - vlo[0])))
-    ax.set_aspect("equal", adjustable="box")
-    ax.set_xlim(vlo[0], vhi[0])
-    ax.set_ylim(vlo[1], vhi[1])
-    ax.set_facecolor("0.93")
-    ax.set_xlabel("east of the site origin [m]", fontsize=9)
-    ax.set_ylabel("north of the site origin [m]", fontsize=9)
-    ax.tick_params(labelsize=8)
-    ax.grid(True, color="white", lw=0.6, zorder=0)
-    ax.apply_aspect()
+    fig, ax, cax = _map_axes(vlo, vhi, "east of the site origin [m]", "north of the site origin [m]")
     placed: list = []
 
     for other in site.areas:  # the other areas, for context (labelled later)
@@ -445,9 +480,7 @@ def _plan_figure(result: SiteResult, zones: list, ar, set_id: str):
 
     patch = PathPatch(MPath(ring, closed=True), fc="none", ec="none")
     ax.add_patch(patch)
-    mesh = ax.pcolormesh(_edges(ar.east_m), _edges(ar.north_m), _db(ar.ratio[(set_id, pop)]),
-                         cmap=CMAP, vmin=DB_RANGE[0], vmax=DB_RANGE[1], shading="flat", zorder=2,
-                         rasterized=True)
+    mesh = _mesh(ax, ar.east_m, ar.north_m, ar.ratio[(set_id, pop)])
     mesh.set_clip_path(patch)
     handles = []
     na = [z for z in zones if z.area == area.name and z.set_id == set_id and z.kind == "not-assessable"]
@@ -508,21 +541,11 @@ def _area_label(ax, area, text: str, fontsize: float, placed: list) -> None:
     poly = Polygon(np.asarray(area.outline_en, dtype=float))
     x0, y0, x1, y1 = poly.bounds
     rp = poly.representative_point()
-    cands = [(rp.x, rp.y)] + [(x0 + fx * (x1 - x0), y0 + fy * (y1 - y0))
+    spots = [(rp.x, rp.y)] + [(x0 + fx * (x1 - x0), y0 + fy * (y1 - y0))
                               for fy in (0.5, 0.25, 0.75, 0.1, 0.9) for fx in (0.5, 0.3, 0.7, 0.15, 0.85)]
-    renderer = ax.figure.canvas.get_renderer()
-    frame = ax.get_window_extent(renderer)
-    for cx, cy in cands:
-        if not poly.contains(Point(cx, cy)):
-            continue
-        t = ax.text(cx, cy, text, fontsize=fontsize, color="0.3", ha="center", va="center",
-                    zorder=4, style="italic", clip_on=True)
-        bb = t.get_window_extent(renderer)
-        fits = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
-        if fits and not _overlaps_any(bb, placed):
-            placed.append(bb)
-            return
-        t.remove()
+    _place(ax, [lambda x=x, y=y: ax.text(x, y, text, fontsize=fontsize, color="0.3", ha="center",
+                                         va="center", zorder=4, style="italic", clip_on=True)
+                for x, y in spots if poly.contains(Point(x, y))], placed)
 
 
 def _hatch_geometry(ax, geom) -> None:
@@ -547,112 +570,12 @@ def _hatch_geometry(ax, geom) -> None:
 # ---------------------------------------------------------------------------------------
 
 
-def cut_extent(result: SiteResult, antenna_id: str) -> tuple[float, tuple[float, float], float]:
-    """Half width, height range and resolution of an antenna's elevation cut. [m]
-
-    Wide enough for the largest general-public keep-out distance along the boresight
-    (front or behind) and high enough for the one above and below, with the site's
-    floors in view; the resolution keeps the cut within :data:`CUT_POINT_BUDGET` points.
-    """
-    site = result.site
-    rec = next(r for r in result.antennas if r.antenna.id == antenna_id)
-    ant = rec.antenna
-    ko = [d for (_, pop), d in rec.keep_out_m.items() if pop == "general"]
-    horiz = max([max(d.get("front", 0.0), d.get("behind", 0.0)) for d in ko] + [0.0])
-    up = max([d.get("above", 0.0) for d in ko] + [0.0])
-    down = max([d.get("below", 0.0) for d in ko] + [0.0])
-    half = float(min(max(10.0, 1.3 * horiz + 2.0), CUT_MAX_HALF_M))
-    z0 = float(ant.position_m[2])
-    floors = [a.floor_m for a in site.areas] or [z0 - 3.0]
-    lo = max(0.0, min(min(floors) - 1.0, z0 - 1.3 * down - 1.0))
-    hi = max(z0 + 1.3 * up + 1.5, max(floors) + 3.0, z0 + 3.0)
-    lo, hi = _balanced(lo, hi, half)
-    return half, (lo, hi), _cut_resolution(half, lo, hi)
-
-
-def _balanced(lo: float, hi: float, half: float) -> tuple[float, float]:
-    """Grow a height range to at least 0.3 of the cut's width (readable maps). [m]"""
-    need = 0.3 * 2.0 * half
-    if hi - lo < need:
-        lo = max(0.0, lo - 0.5 * (need - (hi - lo)))
-        hi = lo + need
-    return lo, hi
-
-
-def _cut_resolution(half: float, lo: float, hi: float) -> float:
-    """Grid spacing that keeps a cut within :data:`CUT_POINT_BUDGET` points. [m]"""
-    return float(f"{max(0.05, math.sqrt(2 * half * (hi - lo) / CUT_POINT_BUDGET)):.2g}")
-
-
 def _free_text(ax, spots, text: str, fontsize: float, placed: list) -> bool:
     """Write ``text`` at the first (x, y, va) spot where it overlaps nothing placed."""
-    renderer = ax.figure.canvas.get_renderer()
-    frame = ax.get_window_extent(renderer)
-    for x, y, va in spots:
-        t = ax.text(x, y, text, fontsize=fontsize, ha="center", va=va, zorder=8, clip_on=True,
-                    bbox={"boxstyle": "round,pad=0.12", "fc": "white", "ec": "none", "alpha": 0.8})
-        bb = t.get_window_extent(renderer)
-        fits = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
-        if fits and not _overlaps_any(bb, placed):
-            placed.append(bb)
-            return True
-        t.remove()
-    return False
-
-
-class _Segment:
-    """A drawn line segment in screen pixels, an obstacle for labels."""
-
-    def __init__(self, a, b, pad: float):
-        self.a, self.b, self.pad = tuple(a), tuple(b), pad
-
-    def overlaps(self, bb) -> bool:
-        from shapely.geometry import LineString, box
-
-        return LineString([self.a, self.b]).buffer(self.pad).intersects(box(bb.x0, bb.y0, bb.x1, bb.y1))
-
-
-def _overlaps_any(bb, placed) -> bool:
-    """Does the screen box ``bb`` overlap any placed box or segment?"""
-    for p in placed:
-        if isinstance(p, _Segment):
-            if p.overlaps(bb):
-                return True
-        elif bb.overlaps(p):
-            return True
-    return False
-
-
-def _arrow_box(ax, start, end, pad: float = 3.0) -> _Segment:
-    """The screen segment of an arrow (an obstacle for label placement)."""
-    return _Segment(ax.transData.transform(start), ax.transData.transform(end), pad)
-
-
-def _adaptive_cut(result: SiteResult, sources, table, antenna_id: str, rounds: int = 3):
-    """The elevation cut of one antenna, widened until the general-public boundary of
-    the summed field (every set) closes inside it, or the width limit is reached.
-
-    :func:`cut_extent` starts from the antenna's own keep-out distances; co-located
-    antennas add up, so the sum can reach further.
-    """
-    from siteexposure.engine.sections import elevation_cut
-
-    half, (lo, hi), res = cut_extent(result, antenna_id)
-    for _ in range(rounds + 1):
-        cut = elevation_cut(result.site, sources, antenna_id, half_width_m=half,
-                            height_range_m=(lo, hi), resolution_m=res, table=table)
-        gen = [g for (_, pop), g in cut[2].items() if pop == "general"]
-        edge = any(np.nanmax(np.r_[g[:, 0], g[:, -1], -np.inf]) > 1.0 for g in gen)
-        top = any(np.nanmax(np.r_[g[-1, :], -np.inf]) > 1.0 for g in gen)
-        if not (edge or top) or half >= CUT_MAX_HALF_M:
-            return cut
-        if edge:
-            half = min(1.6 * half, CUT_MAX_HALF_M)
-        if top:
-            hi = lo + 1.4 * (hi - lo)
-        lo, hi = _balanced(lo, hi, half)
-        res = _cut_resolution(half, lo, hi)
-    return cut
+    box = {"boxstyle": "round,pad=0.12", "fc": "white", "ec": "none", "alpha": 0.8}
+    return _place(ax, [lambda x=x, y=y, va=va: ax.text(x, y, text, fontsize=fontsize, ha="center",
+                                                       va=va, zorder=8, clip_on=True, bbox=box)
+                       for x, y, va in spots], placed) is not None
 
 
 def _floors_on_cut(ax, site, ant, dist, z, fs, placed) -> bool:
@@ -720,19 +643,11 @@ def _elevation_figure(result: SiteResult, antenna_id: str, set_id: str, cut):
     dist, z, ratio = cut
     rg = ratio[(set_id, "general")]
     fs = 7.5
-    fig, ax, cax = _new_figure(float((z[-1] - z[0]) / (dist[-1] - dist[0])))
-    ax.set_aspect("equal", adjustable="box")
-    ax.set_facecolor("0.93")
-    mesh = ax.pcolormesh(_edges(dist), _edges(z), _db(rg), cmap=CMAP, vmin=DB_RANGE[0],
-                         vmax=DB_RANGE[1], shading="flat", zorder=2, rasterized=True)
-    ax.set_xlim(_edges(dist)[0], _edges(dist)[-1])
-    ax.set_ylim(_edges(z)[0], _edges(z)[-1])
-    ax.set_xlabel(f"distance along azimuth {ant.azimuth_deg:g} deg from below {ant.id} [m]"
-                  "   (negative = behind, positive = in front)", fontsize=9)
-    ax.set_ylabel("height above site ground [m]", fontsize=9)
-    ax.tick_params(labelsize=8)
-    ax.grid(True, color="white", lw=0.6, zorder=0)
-    ax.apply_aspect()
+    ex, ez = _edges(dist), _edges(z)
+    fig, ax, cax = _map_axes((ex[0], ez[0]), (ex[-1], ez[-1]),
+                             f"distance along azimuth {ant.azimuth_deg:g} deg from below {ant.id} [m]"
+                             "   (negative = behind, positive = in front)", "height above site ground [m]")
+    mesh = _mesh(ax, dist, z, rg)
     placed: list = []
     handles = []
     bad = ~np.isfinite(rg)
@@ -811,6 +726,7 @@ def render_maps(
     from siteexposure.atomic import check_writable_dir
     from siteexposure.engine.combos import build_combos
     from siteexposure.engine.orchestrator import build_sources, load_limit_sets
+    from siteexposure.engine.sections import adaptive_cut
     from siteexposure.errors import OutputError
 
     formats = tuple(formats)
@@ -834,7 +750,7 @@ def render_maps(
         sources, _ = build_sources(site)
         table = build_combos(load_limit_sets(site), site.antennas)
         for k, ant in enumerate(site.antennas):
-            cut = _adaptive_cut(result, sources, table, ant.id)
+            cut = adaptive_cut(result, sources, ant.id, table=table)
             for set_id in site.limits:
                 fig = _elevation_figure(result, ant.id, set_id, cut)
                 stem = map_file_stem("elevation", k + 1, ant.id, set_id)

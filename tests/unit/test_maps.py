@@ -16,7 +16,7 @@ import pytest
 
 from siteexposure.containers import Antenna, Area, Averaging, Receptor, Site
 from siteexposure.engine.orchestrator import build_sources, evaluate_site
-from siteexposure.engine.sections import cut_points_enu, elevation_cut
+from siteexposure.engine.sections import adaptive_cut, cut_points_enu, elevation_cut
 from siteexposure.engine.zones import compute_zones
 from siteexposure.physics.patterns import parametric_pattern
 from siteexposure.writers import maps
@@ -127,7 +127,7 @@ def test_plan_north_up_and_arrows_along_azimuth(rendered):
 def test_elevation_arrow_points_in_front_and_down_by_the_tilt(rendered):
     res, _, _, _ = rendered
     site = res.site
-    cut = maps._adaptive_cut(res, build_sources(site)[0], None, "E1")
+    cut = adaptive_cut(res, build_sources(site)[0], "E1")
     fig = maps._elevation_figure(res, "E1", "fcc-1310", cut)
     (arrow,) = _arrows(fig.axes[0])
     d = np.subtract(arrow.xy, arrow.xyann)
