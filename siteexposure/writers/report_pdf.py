@@ -160,8 +160,9 @@ def write_report(
         Target file; written through a temporary file and renamed, so a failure leaves
         no partial PDF.
     map_files : sequence of paths, optional
-        Map images (PNG; other formats are ignored) to include: plan views, and
-        elevation cuts (file names containing ``elev`` or ``cut``).
+        Map images from :func:`siteexposure.writers.maps.render_maps` (PNG; other
+        formats are ignored): plan views, and elevation cuts (names starting with
+        ``elevation``), in the order given. Captions come from the file names.
 
     Returns
     -------
