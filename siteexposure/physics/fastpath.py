@@ -271,23 +271,26 @@ def _bilinear(m, f, el_deg):
 @_jit(parallel=True, fastmath=False, cache=True)
 def _ratio_kernel(pts, pos, axes, kfac, r2_min, method, gfloor, vf0, vb0, h_node, h_slope,
                   h_off, h_n, vf_node, vf_slope, vb_node, vb_slope, v_off, v_n,
-                  exp_table, exp_k0, weights, out):
-    """``out[c, p] = sum_i weights[c, i] S_i(p)``, NaN where a weighted source is not
-    assessable. Work items of whole blocks of :data:`POINT_BLOCK` points run in parallel,
-    each with its own scratch rows (allocated once per item)."""
+                  exp_table, exp_k0, weights, group, is_max, out):
+    """``sum_i weights[c, i] S_i(p)``, NaN where a weighted source is not assessable, reduced
+    over consecutive groups of ``group`` points (the mean, or the maximum where
+    ``is_max[c]``; NaN if any point of the group is NaN) into ``out[c, p // group]``.
+    Work items of whole blocks (whole groups) run in parallel, each with its own scratch
+    rows, allocated once per item."""
     n = pts.shape[0]
     nc = weights.shape[0]
-    nblk = (n + POINT_BLOCK - 1) // POINT_BLOCK
+    bs = max(group, (POINT_BLOCK // group) * group)
+    nblk = (n + bs - 1) // bs
     n_items = min(nblk, _WORK_ITEMS)
     for item in _prange(n_items):  # pragma: no cover - compiled
-        f = np.empty((18, POINT_BLOCK))
-        el = np.empty(POINT_BLOCK)
-        it = np.empty((4, POINT_BLOCK), dtype=np.int64)
-        acc = np.empty((nc, POINT_BLOCK))
-        nbad = np.empty((nc, POINT_BLOCK), dtype=np.int64)
+        f = np.empty((18, bs))
+        el = np.empty(bs)
+        it = np.empty((4, bs), dtype=np.int64)
+        acc = np.empty((nc, bs))
+        nbad = np.empty((nc, bs), dtype=np.int64)
         for blk in range(item * nblk // n_items, (item + 1) * nblk // n_items):
-            p0 = blk * POINT_BLOCK
-            m = min(n, p0 + POINT_BLOCK) - p0
+            p0 = blk * bs
+            m = min(n, p0 + bs) - p0
             for q in range(m):
                 f[0, q] = pts[p0 + q, 0]
                 f[1, q] = pts[p0 + q, 1]
@@ -322,8 +325,15 @@ def _ratio_kernel(pts, pos, axes, kfac, r2_min, method, gfloor, vf0, vb0, h_node
                         for q in range(m):
                             nbad[c, q] += it[0, q]
             for c in range(nc):
-                for q in range(m):
-                    out[c, p0 + q] = np.nan if nbad[c, q] > 0 else acc[c, q]
+                for g in range(m // group):
+                    q0 = g * group
+                    red = acc[c, q0]
+                    bad = nbad[c, q0]
+                    for q in range(q0 + 1, q0 + group):
+                        bad += nbad[c, q]
+                        red = max(red, acc[c, q]) if is_max[c] else red + acc[c, q]
+                    red = red if is_max[c] else red / group
+                    out[c, p0 // group + g] = np.nan if bad > 0 else red
 
 
 # -- per-source tables ----------------------------------------------------------------------
@@ -674,16 +684,19 @@ def far_field_ratio_sums(radiators, points_enu, weights, *, accelerate: bool | N
     if not use:
         return far_field_ratio_sums_reference(plan, points_enu, weights)
     pts, w = _points_and_weights(points_enu, weights, plan.n_source)
-    out = np.empty((w.shape[0], pts.shape[0]))
-    if pts.shape[0] == 0 or w.shape[0] == 0:
-        return out
-    if plan.n_source == 0:
+    return _run_kernel(plan, pts, w, 1, np.zeros(w.shape[0], dtype=bool))
+
+
+def _run_kernel(plan: FarFieldPlan, pts, w, group: int, is_max) -> np.ndarray:
+    out = np.empty((w.shape[0], pts.shape[0] // group))
+    if out.size == 0 or plan.n_source == 0:
         out[:] = 0.0
         return out
     _ratio_kernel(pts, plan.position_m, plan.axes, plan.kfac_w, plan.r2_min_m2, plan.method,
                   plan.gain_floor_dbi, plan.vf0_dbi, plan.vb0_dbi, plan.h_node, plan.h_slope,
                   plan.h_off, plan.h_n, plan.vf_node, plan.vf_slope, plan.vb_node, plan.vb_slope,
-                  plan.v_off, plan.v_n, plan.exp_table, plan.exp_k0, w, out)
+                  plan.v_off, plan.v_n, plan.exp_table, plan.exp_k0, w, int(group),
+                  np.ascontiguousarray(is_max, dtype=np.bool_), out)
     return out
 
 
@@ -755,3 +768,48 @@ def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
             s[k] = np.where(ok, s_i, np.nan)
         out = out + _nan_weighted_sums(s, w[:, rest])
     return out
+
+
+def reduced_ratio_sums(sources: Sequence, points_enu, weights, group: int, is_max
+                       ) -> np.ndarray:
+    """:func:`ratio_sums` reduced over consecutive groups of points (averaging lines).
+
+    Equals ``np.where(is_max[:, None], r.max(axis=2), r.mean(axis=2))`` with ``r =
+    ratio_sums(...).reshape(n_combo, -1, group)`` -- the reduction of
+    :func:`siteexposure.engine.evaluate.column_ratios` -- and when every source takes the
+    kernel, the kernel reduces as it goes, so that not even the ``(n_combo, n_point)`` sums
+    are held.
+
+    Parameters
+    ----------
+    sources : sequence
+        Objects with ``radiator`` and ``choice`` (see :func:`ratio_sums`).
+    points_enu : array_like, shape (n_group * group, 3)
+        Field points, each group of ``group`` consecutive points one averaging line. [m]
+    weights : array_like, shape (n_combo, n_source)
+        Weight of each source in each combination. [m^2/W]
+    group : int
+        Points per averaging line. [1]
+    is_max : array_like of bool, shape (n_combo,)
+        Per combination: the maximum of the line (peak) instead of its mean.
+
+    Returns
+    -------
+    ndarray, shape (n_combo, n_group)
+        Reduced exposure ratios; NaN where any point of a line is NaN. [1]
+    """
+    from siteexposure.errors import InputError
+
+    srcs = list(sources)
+    pts, w = _points_and_weights(points_enu, weights, len(srcs))
+    flags = np.asarray(is_max, dtype=bool).reshape(-1)
+    if group < 1 or pts.shape[0] % group or flags.size != w.shape[0]:
+        raise InputError(f"averaging lines: {pts.shape[0]} points in groups of {group} with "
+                         f"{flags.size} reducers; expected whole groups and one reducer per "
+                         f"combination ({w.shape[0]})")
+    fast = all(getattr(s.choice, "word", None) == "far-field" and fast_eligible(s.radiator)
+               for s in srcs)
+    if fast and srcs and fast_available():
+        return _run_kernel(_cached_plan(tuple(s.radiator for s in srcs)), pts, w, group, flags)
+    r = ratio_sums(srcs, pts, w).reshape(w.shape[0], -1, group)
+    return np.where(flags[:, None], r.max(axis=2), r.mean(axis=2))

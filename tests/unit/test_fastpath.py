@@ -277,3 +277,36 @@ def test_irregular_samples_take_the_per_source_path_with_the_same_result():
     w = np.array([[2.0]])
     want, srcs = _engine_reference([rad], pts, w)
     _assert_same(fastpath.ratio_sums(srcs, pts, w), want)
+
+
+@pytest.mark.parametrize("no_numba", [False, True])
+def test_reduced_sums_equal_the_engine_column_ratios(monkeypatch, no_numba):
+    """Averaging lines (mean) and peaks (max), with lines through a reactive near field."""
+    from siteexposure.engine.evaluate import column_ratios
+
+    if no_numba:
+        monkeypatch.setenv(fastpath.NO_NUMBA_ENV, "1")
+    rng = np.random.default_rng(21)
+    rads = [Radiator(np.array([x, y, 21.0 + z]), az, tilt, 0.0, f, p,
+                     _random_pattern(rng, m, 1.0, 0.5), aperture_height_m=1.3)
+            for x, y, z, az, tilt, f, p, m in [
+                (2.0, 3.0, 0.5, 20.0, 0.0, 1.9e9, 80.0, "additive"),
+                (-4.0, 1.0, 1.0, 140.0, 3.0, 7.4e8, 60.0, "weighted-bilinear"),
+                (1.0, -5.0, 0.0, 260.0, 0.0, 2.6e9, 90.0, "additive")]]
+    srcs = [Source(f"s{i}", r, choose_model(r, "far-field")) for i, r in enumerate(rads)]
+    cols = np.concatenate([rng.uniform(-12, 12, (300, 2)), [[2.0, 3.0], [-4.0, 1.0]]])
+    heights = np.linspace(0.0, 2.0, 10)
+    w = rng.uniform(0.1, 3.0, (4, 3))
+    w[1, 0] = 0.0
+    reducers = ["mean", "max", "mean", "max"]
+    want = column_ratios(srcs, cols, 20.0, heights, w, reducers)
+    assert np.isnan(want).any()  # the lines through an antenna cannot be assessed
+    pts = np.empty((len(cols), len(heights), 3))
+    pts[..., :2] = cols[:, None, :]
+    pts[..., 2] = 20.0 + heights[None, :]
+    got = fastpath.reduced_ratio_sums(srcs, pts.reshape(-1, 3), w, len(heights),
+                                      np.array([r == "max" for r in reducers]))
+    _assert_same(got, want)
+    with pytest.raises(InputError, match="averaging lines"):
+        fastpath.reduced_ratio_sums(srcs, pts.reshape(-1, 3)[:-1], w, len(heights),
+                                    np.zeros(4, dtype=bool))
