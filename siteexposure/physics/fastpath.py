@@ -432,61 +432,32 @@ def _r2_threshold(radius: float) -> float:
 
 @dataclass(frozen=True, eq=False)
 class FarFieldPlan:
-    """What the kernel needs of a set of radiators, prepared once and reused on every chunk.
+    """What the kernel needs of a set of radiators, prepared once (:func:`prepare_far_field`)
+    and reused on every chunk. Per-source arrays have length ``n_source``; the cut tables of
+    all sources are concatenated, source ``i`` owning the ``n[i]`` cells from ``off[i]`` on
+    (value at the start of each cell and its rise to the next node, in dBi)."""
 
-    Build it with :func:`prepare_far_field`. Per-source arrays have length ``n_source``;
-    the cut tables of all sources are concatenated, source ``i`` owning the ``n[i]`` cells
-    from ``off[i]`` on.
-
-    Attributes
-    ----------
-    radiators : tuple of Radiator
-        The sources, in the order of the weight columns.
-    position_m : ndarray, shape (n_source, 3)
-        Radiation centres (east, north, up). [m]
-    axes : ndarray, shape (n_source, 9)
-        Boresight, left and top unit vectors of each antenna frame, in the site frame. [1]
-    kfac_w : ndarray, shape (n_source,)
-        ``P F / (4 pi)``, so that ``S = kfac G / r^2``. [W]
-    r2_min_m2 : ndarray, shape (n_source,)
-        Smallest squared distance that is outside the reactive near field. [m^2]
-    method : ndarray of int64
-        0 additive, 1 weighted bilinear.
-    gain_floor_dbi, vf0_dbi, vb0_dbi : ndarray, shape (n_source,)
-        Lowest gain of the data (floor of the additive rule) and the front and back
-        vertical cuts at the horizon. [dBi]
-    h_node, h_slope, h_off, h_n : ndarray
-        Horizontal cuts on regular grids of ``h_n[i]`` cells over 0..360 deg: the value at
-        the start of each cell and its rise to the next node. [dBi]
-    vf_node, vf_slope, vb_node, vb_slope, v_off, v_n : ndarray
-        Front and back vertical cuts on one regular grid per source over -90..90 deg. [dBi]
-    exp_table : ndarray
-        ``exp_table[j] = 10**(0.1 (j + exp_k0) / 10)`` over the gains that can occur. [1]
-    exp_k0 : int
-        Tenths of a dB of ``exp_table[0]``.
-    """
-
-    radiators: tuple
-    position_m: np.ndarray
-    axes: np.ndarray
-    kfac_w: np.ndarray
-    r2_min_m2: np.ndarray
-    method: np.ndarray
-    gain_floor_dbi: np.ndarray
-    vf0_dbi: np.ndarray
-    vb0_dbi: np.ndarray
-    h_node: np.ndarray
+    radiators: tuple  #: the sources, in the order of the weight columns
+    position_m: np.ndarray  #: (n_source, 3) radiation centres (east, north, up) [m]
+    axes: np.ndarray  #: (n_source, 9) boresight, left and top unit vectors (site frame) [1]
+    kfac_w: np.ndarray  #: P F / (4 pi), so that S = kfac G / r^2 [W]
+    r2_min_m2: np.ndarray  #: smallest squared distance outside the reactive near field [m^2]
+    method: np.ndarray  #: 0 additive, 1 weighted bilinear
+    gain_floor_dbi: np.ndarray  #: lowest gain of the data (floor of the additive rule) [dBi]
+    vf0_dbi: np.ndarray  #: front vertical cut at the horizon [dBi]
+    vb0_dbi: np.ndarray  #: back vertical cut at the horizon [dBi]
+    h_node: np.ndarray  #: horizontal cuts, cells over 0..360 deg [dBi]
     h_slope: np.ndarray
     h_off: np.ndarray
     h_n: np.ndarray
-    vf_node: np.ndarray
+    vf_node: np.ndarray  #: front vertical cuts, cells over -90..90 deg [dBi]
     vf_slope: np.ndarray
-    vb_node: np.ndarray
+    vb_node: np.ndarray  #: back vertical cuts, same cells [dBi]
     vb_slope: np.ndarray
     v_off: np.ndarray
     v_n: np.ndarray
-    exp_table: np.ndarray
-    exp_k0: int
+    exp_table: np.ndarray  #: 10**(0.1 (j + exp_k0) / 10) over the gains that can occur [1]
+    exp_k0: int  #: tenths of a dB of exp_table[0]
 
     @property
     def n_source(self) -> int:
@@ -592,25 +563,11 @@ def _points_and_weights(points_enu, weights, n_source: int) -> tuple[np.ndarray,
 def far_field_ratio_sums_reference(radiators, points_enu, weights) -> np.ndarray:
     """Weighted far-field exposure-ratio sums with the package's own numpy far-field model.
 
-    The plain reference of :func:`far_field_ratio_sums`: source by source,
-    :func:`siteexposure.physics.farfield.farfield_power_density` on chunks of
+    The plain reference of :func:`far_field_ratio_sums` (same arguments and result): source
+    by source, :func:`siteexposure.physics.farfield.farfield_power_density` on chunks of
     :data:`REFERENCE_CHUNK` points, masked inside the reactive near field as
-    :func:`siteexposure.physics.sources.power_density` masks it, and added into the sums.
-
-    Parameters
-    ----------
-    radiators : sequence of Radiator or FarFieldPlan
-        The sources (any pattern), in the order of the weight columns.
-    points_enu : array_like, shape (n_point, 3)
-        Field points (east, north, up) in the site frame. [m]
-    weights : array_like, shape (n_combo, n_source)
-        Weight of each source in each combination, e.g. ``1 / S_limit``. [m^2/W]
-
-    Returns
-    -------
-    ndarray, shape (n_combo, n_point)
-        ``sum_i W[c, i] S_i(p)``; NaN where a source with non-zero (or NaN) weight in row
-        ``c`` cannot be assessed at ``p`` (reactive near field). [1]
+    :func:`siteexposure.physics.sources.power_density` masks it, added into the sums. Takes
+    any pattern.
 
     References
     ----------
@@ -642,8 +599,8 @@ def far_field_ratio_sums(radiators, points_enu, weights, *, accelerate: bool | N
                          ) -> np.ndarray:
     """Weighted far-field exposure-ratio sums of many sources at many points, fused.
 
-    Same quantity, arguments and NaN rule as :func:`far_field_ratio_sums_reference`; the
-    compiled kernel runs when :func:`fast_available` (else the reference does).
+    The compiled kernel runs when :func:`fast_available`, else
+    :func:`far_field_ratio_sums_reference` (the same quantity, to about 1e-13).
 
     Parameters
     ----------
@@ -660,7 +617,8 @@ def far_field_ratio_sums(radiators, points_enu, weights, *, accelerate: bool | N
     Returns
     -------
     ndarray, shape (n_combo, n_point)
-        ``sum_i W[c, i] P_i G_i F_i / (4 pi r_i^2)``, NaN where not assessable. [1]
+        ``sum_i W[c, i] P_i G_i F_i / (4 pi r_i^2)``; NaN where a source with non-zero (or
+        NaN) weight in row ``c`` cannot be assessed at ``p`` (reactive near field). [1]
 
     Raises
     ------
