@@ -15,7 +15,8 @@ repeats and keeping the best of each:
    measured in this run (also the CPU time per pair of both, summed over threads, and the
    same bare pass written with ``einsum`` offsets as the engine writes distances);
 3. the same engine loop without the fast path (``SITEEXPOSURE_NO_NUMBA=1``, the plain numpy
-   models), for comparison;
+   models), for comparison, and the largest relative difference between the two results
+   (``fast_vs_plain_max_rel_diff``, with the count of differing NaN flags);
 4. the array-synthesis throughput per sub-source (source x sub-source x point per second)
    through the same loop, and its ratio to (2);
 5. the peak memory of the engine loop at about 1 M and 4 M points (tracemalloc peak of the
@@ -510,6 +511,13 @@ def main(argv=None) -> int:
         log(f"bench: engine loop without the fast path, {len(sub) * HEIGHTS:,} points")
         with numba_disabled():
             t_plain = best_times({"plain": lambda: eng.run(sub)}, max(1, repeats // 2))["plain"]
+            r_plain = eng.run(sub)
+        with fast_engine(state):
+            r_fast = eng.run(sub)
+        both = np.isfinite(r_plain) & np.isfinite(r_fast)
+        out["fast_vs_plain_max_rel_diff"] = float(np.max(np.abs(r_fast[both] / r_plain[both] - 1.0),
+                                                         initial=0.0))
+        out["fast_vs_plain_nan_mismatch"] = int(np.sum(np.isnan(r_plain) != np.isnan(r_fast)))
         out["engine_numpy_pairs_per_s"] = len(sub) * HEIGHTS * len(eng.sources) / t_plain
         out["engine_numpy_ratio_vs_bare_numpy"] = out["engine_numpy_pairs_per_s"] / out[
             "bare_pairs_per_s"]
@@ -567,6 +575,9 @@ def print_human(out: dict) -> None:
                                               f"{out['bare_cpu_ns_per_pair']:.3g}"),
         ("ratio_vs_bare_numpy", fmt(out["ratio_vs_bare_numpy"])),
         ("engine loop without fast path pairs/s", fmt(out["engine_numpy_pairs_per_s"])),
+        ("fast vs plain: max relative difference", f"{out['fast_vs_plain_max_rel_diff']:.2g} "
+                                                   f"({out['fast_vs_plain_nan_mismatch']} NaN "
+                                                   "flags differ)"),
         ("array synthesis sub-source pairs/s", fmt(out["array_pairs_per_s"])),
         ("array_ratio_vs_bare_numpy", fmt(out["array_ratio_vs_bare_numpy"])),
         (f"peak memory at {out['memory_points'][0]:,} points", fmt(out["peak_memory_1m_mb"], " MB")),
