@@ -11,7 +11,10 @@ builds an ``(n_source, n_point)`` block of densities and multiplies it by ``W``;
 * :func:`far_field_ratio_sums_reference` -- the plain numpy reference: the package's own
   far-field model, source by source, added into ``R``;
 * :func:`ratio_sums` -- the engine's entry point: far-field sources with pattern files go
-  through the kernel, every other source through :func:`siteexposure.physics.sources.power_density`.
+  through the kernel, every other source through :func:`siteexposure.physics.sources.power_density`;
+* :func:`reduced_ratio_sums` -- the same, reduced over each averaging line (mean or peak)
+  as :func:`siteexposure.engine.evaluate.column_ratios` reduces it, inside the kernel when
+  every source takes it.
 
 Per (source, point) pair the kernel projects the offset on the antenna axes of
 :func:`~siteexposure.physics.orientation.antenna_axes` (three dot products), takes
@@ -199,6 +202,51 @@ def _geometry(m, f, it, o, ax, r2_min):
 
 
 @_jit(cache=True, inline="always")
+def _geometry_lines(m, group, f, it, o, ax, r2_min, h_node, h_slope, h_off, hn):
+    """:func:`_geometry` for vertical lines of ``group`` points (same east and north) and an
+    antenna without mechanical tilt, whose ``x_a`` and ``y_a`` do not change along a line:
+    ``phi`` and the horizontal cut are taken once per line and spread over its points (the
+    cut value in row 9, rows 4 and 10 zero, so that :func:`_additive` reads it unchanged;
+    rows 11-13 carry the line's ``r^2`` in the horizontal, ``z_a`` at ``dz = 0`` and
+    ``rho``). Every sum keeps the association of :func:`_geometry`: the same numbers."""
+    h_inv = hn / 360.0
+    for g in range(m // group):  # once per line
+        q0 = g * group
+        dx = f[0, q0] - o[0]
+        dy = f[1, q0] - o[1]
+        xa = dx * ax[0] + dy * ax[1] + 0.0  # dz * ax[2] is a signed zero here
+        ya = dx * ax[3] + dy * ax[4]
+        a = atan2_kernel(-ya, xa) * _R2D
+        x = (a + 360.0 if a < 0.0 else a) * h_inv  # as _to_cells does with row 4
+        j = min(max(int(x), 0), hn - 1)
+        h = h_node[h_off + j] + (x - j) * h_slope[h_off + j]
+        r2_xy = dx * dx + dy * dy
+        z_xy = dx * ax[6] + dy * ax[7]
+        rho = math.sqrt(xa * xa + ya * ya)
+        for q in range(q0, q0 + group):
+            f[5, q] = abs(a)
+            f[9, q] = h
+            f[11, q] = r2_xy
+            f[12, q] = z_xy
+            f[13, q] = rho
+    n_out = 0
+    for q in range(m):  # per point, vectorised
+        dz = f[2, q] - o[2]
+        r2 = f[11, q] + dz * dz
+        ok = r2 >= r2_min
+        za = f[12, q] + dz * ax[8]
+        e = math.copysign(_atan_first_quadrant(abs(za), f[13, q]), za)
+        f[3, q] = 1.0 / r2 if ok else 0.0
+        f[4, q] = 0.0
+        f[5, q] = f[5, q] if ok else 0.0
+        f[6, q] = min(90.0, max(-90.0, e * _R2D)) if ok else 0.0
+        f[10, q] = 0.0
+        it[0, q] = 0 if ok else 1
+        n_out += it[0, q]
+    return n_out
+
+
+@_jit(cache=True, inline="always")
 def _to_cells(m, f, src, dst, it, row, inv_width, n, shift):
     """Row ``dst`` of ``f`` := fraction within its cell, ``it[row]`` := cell index, of
     ``f[src] + shift`` on a regular grid of ``n`` cells of width ``1/inv_width``."""
@@ -271,10 +319,11 @@ def _bilinear(m, f, el_deg):
 @_jit(parallel=True, fastmath=False, cache=True)
 def _ratio_kernel(pts, pos, axes, kfac, r2_min, method, gfloor, vf0, vb0, h_node, h_slope,
                   h_off, h_n, vf_node, vf_slope, vb_node, vb_slope, v_off, v_n,
-                  exp_table, exp_k0, weights, group, is_max, out):
+                  exp_table, exp_k0, weights, group, is_max, lines, out):
     """``sum_i weights[c, i] S_i(p)``, NaN where a weighted source is not assessable, reduced
     over consecutive groups of ``group`` points (the mean, or the maximum where
-    ``is_max[c]``; NaN if any point of the group is NaN) into ``out[c, p // group]``.
+    ``is_max[c]``; NaN if any point of the group is NaN) into ``out[c, p // group]``;
+    ``lines``: every group is a vertical line (same east and north).
     Work items of whole blocks (whole groups) run in parallel, each with its own scratch
     rows, allocated once per item."""
     n = pts.shape[0]
@@ -298,8 +347,13 @@ def _ratio_kernel(pts, pos, axes, kfac, r2_min, method, gfloor, vf0, vb0, h_node
             acc[:, :] = 0.0
             nbad[:, :] = 0
             for i in range(pos.shape[0]):
-                n_out = _geometry(m, f, it, pos[i], axes[i], r2_min[i])
                 hn, vn = h_n[i], v_n[i]
+                per_line = lines and method[i] == 0 and axes[i, 2] == 0.0 and axes[i, 5] == 0.0
+                if per_line:
+                    n_out = _geometry_lines(m, group, f, it, pos[i], axes[i], r2_min[i], h_node,
+                                            h_slope, h_off[i], hn)
+                else:
+                    n_out = _geometry(m, f, it, pos[i], axes[i], r2_min[i])
                 if method[i] == 1:  # the elevation, and the opposite azimuth phi + 180 deg
                     for q in range(m):
                         el[q] = f[6, q]
@@ -307,9 +361,10 @@ def _ratio_kernel(pts, pos, axes, kfac, r2_min, method, gfloor, vf0, vb0, h_node
                         f[17, q] = p2 - 360.0 if p2 >= 360.0 else p2
                     _to_cells(m, f, 17, 17, it, 3, hn / 360.0, hn, 0.0)
                     _gather(m, f, it, 3, h_node, h_slope, h_off[i], 15)
-                _to_cells(m, f, 4, 4, it, 1, hn / 360.0, hn, 0.0)
+                if not per_line:
+                    _to_cells(m, f, 4, 4, it, 1, hn / 360.0, hn, 0.0)
+                    _gather(m, f, it, 1, h_node, h_slope, h_off[i], 9)
                 _to_cells(m, f, 6, 6, it, 2, vn / 180.0, vn, 90.0)
-                _gather(m, f, it, 1, h_node, h_slope, h_off[i], 9)
                 _gather(m, f, it, 2, vf_node, vf_slope, v_off[i], 11)
                 _gather(m, f, it, 2, vb_node, vb_slope, v_off[i], 13)
                 if method[i] == 0:
@@ -645,7 +700,8 @@ def far_field_ratio_sums(radiators, points_enu, weights, *, accelerate: bool | N
     return _run_kernel(plan, pts, w, 1, np.zeros(w.shape[0], dtype=bool))
 
 
-def _run_kernel(plan: FarFieldPlan, pts, w, group: int, is_max) -> np.ndarray:
+def _run_kernel(plan: FarFieldPlan, pts, w, group: int, is_max, lines: bool = False
+                ) -> np.ndarray:
     out = np.empty((w.shape[0], pts.shape[0] // group))
     if out.size == 0 or plan.n_source == 0:
         out[:] = 0.0
@@ -654,7 +710,7 @@ def _run_kernel(plan: FarFieldPlan, pts, w, group: int, is_max) -> np.ndarray:
                   plan.gain_floor_dbi, plan.vf0_dbi, plan.vb0_dbi, plan.h_node, plan.h_slope,
                   plan.h_off, plan.h_n, plan.vf_node, plan.vf_slope, plan.vb_node, plan.vb_slope,
                   plan.v_off, plan.v_n, plan.exp_table, plan.exp_k0, w, int(group),
-                  np.ascontiguousarray(is_max, dtype=np.bool_), out)
+                  np.ascontiguousarray(is_max, dtype=np.bool_), bool(lines and group > 1), out)
     return out
 
 
@@ -768,6 +824,9 @@ def reduced_ratio_sums(sources: Sequence, points_enu, weights, group: int, is_ma
     fast = all(getattr(s.choice, "word", None) == "far-field" and fast_eligible(s.radiator)
                for s in srcs)
     if fast and srcs and fast_available():
-        return _run_kernel(_cached_plan(tuple(s.radiator for s in srcs)), pts, w, group, flags)
+        en = pts[:, :2].reshape(-1, group, 2)
+        lines = bool(np.all(en == en[:, :1, :]))  # vertical lines: one east/north per group
+        return _run_kernel(_cached_plan(tuple(s.radiator for s in srcs)), pts, w, group, flags,
+                           lines)
     r = ratio_sums(srcs, pts, w).reshape(w.shape[0], -1, group)
     return np.where(flags[:, None], r.max(axis=2), r.mean(axis=2))
