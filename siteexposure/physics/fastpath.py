@@ -1,36 +1,32 @@
 """Fused far-field kernel: many sources x many points -> weighted exposure-ratio sums.
 
-The engine needs, for every limit combination ``c`` and field point ``p``, the sum
-``R[c, p] = sum_i W[c, i] S_i(p)`` of the far-field densities ``S_i = P G(phi, theta) F /
-(4 pi r^2)`` (:func:`siteexposure.physics.farfield.farfield_power_density`). The plain path
-builds an ``(n_source, n_point)`` block of densities and multiplies it by ``W``; here:
+The engine needs ``R[c, p] = sum_i W[c, i] S_i(p)`` for every limit combination ``c`` and
+point ``p``, with the far-field densities ``S_i = P G(phi, theta) F / (4 pi r^2)`` of
+:func:`siteexposure.physics.farfield.farfield_power_density`. The plain path builds an
+``(n_source, n_point)`` block of densities and multiplies it by ``W``. Here:
 
-* :func:`far_field_ratio_sums` -- the same quantity from a fused kernel, compiled with
-  numba (``njit(parallel=True, fastmath=False, cache=True)``) when numba imports and
-  ``SITEEXPOSURE_NO_NUMBA`` is not set (read at every call), else from
-* :func:`far_field_ratio_sums_reference` -- the plain numpy reference: the package's own
-  far-field model, source by source, added into ``R``;
-* :func:`ratio_sums` -- the engine's entry point: far-field sources with pattern files go
-  through the kernel, every other source through :func:`siteexposure.physics.sources.power_density`;
-* :func:`reduced_ratio_sums` -- the same, reduced over each averaging line (mean or peak)
-  as :func:`siteexposure.engine.evaluate.column_ratios` reduces it, inside the kernel when
-  every source takes it.
+* :func:`far_field_ratio_sums` -- the same quantity from a fused kernel compiled with numba
+  (``njit(parallel=True, fastmath=False, cache=True)``) when numba imports and
+  ``SITEEXPOSURE_NO_NUMBA`` is unset (read at every call), else from
+  :func:`far_field_ratio_sums_reference`, the plain numpy reference (the package's own model,
+  source by source, added into ``R``);
+* :func:`ratio_sums` / :func:`reduced_ratio_sums` -- the engine's entry points: far-field
+  sources with pattern files take the kernel, others :func:`siteexposure.physics.sources.power_density`;
+  the second also reduces each averaging line (mean or peak) as
+  :func:`siteexposure.engine.evaluate.column_ratios` does, inside the kernel when it can.
 
-Per (source, point) pair the kernel projects the offset on the antenna axes of
-:func:`~siteexposure.physics.orientation.antenna_axes` (three dot products), takes
-``phi = atan2(-y_a, x_a)`` and ``theta = atan2(z_a, rho)`` (one arctangent each, no arccos,
-no ``mod``: ``|phi'|`` of the side blend is ``|atan2|`` itself) from our own branch-free
-:func:`atan2_kernel`, looks the cuts up on regular grids whose nodes hold every sample of
-the file (so that the interpolation, linear in dB, is the very function
-:class:`~siteexposure.physics.synthesis.TablePattern` interpolates), applies the same
-synthesis rule (additive or weighted bilinear), turns dB into a ratio with a table of
-tenths of a dB and a short series, and adds ``W[:, i] S_i`` into the sums of its block at
-once. The reactive-near-field test compares ``r^2`` with a threshold equivalent to
-``sqrt(r^2) >= radius``. A point that a weighted source cannot assess makes that sum NaN,
-as :func:`siteexposure.engine.evaluate.weighted_sums` does. Loops are split so that the
-arithmetic vectorises and only the table loads stay scalar. Memory: per work item a few
-``POINT_BLOCK``-long rows and ``n_combo x POINT_BLOCK`` sums; nothing of size
-``n_source x n_point`` exists.
+Per (source, point) the kernel projects the offset on the antenna axes (three dot
+products), takes ``phi = atan2(-y_a, x_a)`` and ``theta = atan2(z_a, rho)`` with our own
+branch-free :func:`atan2_kernel` (no arccos, no ``mod``: ``|phi'|`` is ``|atan2|``; once per
+averaging line for antennas without mechanical tilt), reads the cuts on regular grids whose
+nodes hold every sample of the file (the very piecewise-linear-in-dB functions of
+:class:`~siteexposure.physics.synthesis.TablePattern`), applies the same synthesis rule,
+turns dB into a ratio with a table of tenths of a dB and a short series, and adds
+``W[:, i] S_i`` into the block's sums. The reactive-near-field test compares ``r^2`` with a
+threshold equivalent to ``sqrt(r^2) >= radius``; a point a weighted source cannot assess
+makes that sum NaN, as :func:`siteexposure.engine.evaluate.weighted_sums` does. Loops are
+split so that the arithmetic vectorises. Memory: per work item a few ``POINT_BLOCK``-long
+rows and ``n_combo x POINT_BLOCK`` sums; nothing of size ``n_source x n_point``.
 
 References
 ----------
@@ -93,22 +89,17 @@ def fast_available() -> bool:
 
 # -- scalar kernels (compiled with numba; plain Python without it) ------------------------
 
-_ATAN_C = tuple(1.0 / (2 * k + 1) for k in range(9))  # A&S 4.4.42
-_EXP_C = tuple(1.0 / math.factorial(k) for k in range(8))  # A&S 4.2.1
+_ATAN_C = tuple(1.0 / (2 * k + 1) for k in range(8, -1, -1))  # A&S 4.4.42, highest first
+_EXP_C = tuple(1.0 / math.factorial(k) for k in range(7, -1, -1))  # A&S 4.2.1, highest first
 
 
 @_jit(cache=True, inline="always")
 def _atan_series(s):
-    """``atan(u) / u`` for ``s = u^2 <= tan(pi/16)^2``: the series to ``u^16/17``."""
-    c = _ATAN_C
-    p = c[7] - s * c[8]
-    p = c[6] - s * p
-    p = c[5] - s * p
-    p = c[4] - s * p
-    p = c[3] - s * p
-    p = c[2] - s * p
-    p = c[1] - s * p
-    return c[0] - s * p
+    """``atan(u) / u`` for ``s = u^2 <= tan(pi/16)^2``: the series to ``u^16/17`` (Horner)."""
+    p = 0.0
+    for c in _ATAN_C:
+        p = c - s * p
+    return p
 
 
 @_jit(cache=True, inline="always")
@@ -129,27 +120,15 @@ def _atan_first_quadrant(ay, ax):
 
 @_jit(cache=True, inline="always")
 def atan2_kernel(y, x):
-    """Two-argument arctangent with the C99 conventions, for compiled loops. [rad]
-
-    Parameters
-    ----------
-    y, x : float
-        Ordinate and abscissa. [1]
-
-    Returns
-    -------
-    float
-        The angle of ``(x, y)`` in ``[-pi, pi]``; ``atan2(+-0, -0) = +-pi``. [rad]
+    """Two-argument arctangent ``atan2(y, x)`` in [-pi, pi], C99 conventions. [rad]
 
     Notes
     -----
-    With ``a = min(|x|, |y|)``, ``b = max(|x|, |y|)`` and ``t = a / b`` in ``[0, 1]``,
-    the addition formula ``atan t = c + atan((t - tan c) / (1 + t tan c))`` with
-    ``c in {0, pi/8, pi/4}`` (whichever is nearest) leaves ``|u| <= tan(pi/16)``, where the
-    alternating series ``atan u = sum_k (-1)^k u^(2k+1) / (2k+1)``, k = 0..8, errs by
-    less than ``u^19 / 19 < 1.3e-14 |u|`` (below 3e-15 rad). The quadrant follows from the sign bits, so that
-    signed zeros behave as in C99 Annex F.10.1.4. Written with selects only (no branch on
-    the data), so that a compiled loop over points vectorises.
+    With ``t = min(|x|,|y|) / max(|x|,|y|)``, ``atan t = c + atan((t - tan c) / (1 + t tan c))``
+    for the nearest ``c in {0, pi/8, pi/4}`` leaves ``|u| <= tan(pi/16)``, where the series
+    ``sum_k (-1)^k u^(2k+1) / (2k+1)``, k = 0..8, errs by less than ``u^19/19 < 3e-15`` rad.
+    The quadrant comes from the sign bits (signed zeros as in C99 Annex F.10.1.4); selects
+    only, no branch on the data, so that a compiled loop over points vectorises.
 
     References
     ----------
@@ -164,14 +143,10 @@ def atan2_kernel(y, x):
 @_jit(cache=True, inline="always")
 def _exp_series(y):
     """``exp(y)`` for ``0 <= y < 0.0231``: the series to ``y^7/7!`` (error < ``y^8/8!`` < 2e-18)."""
-    c = _EXP_C
-    e = c[6] + y * c[7]
-    e = c[5] + y * e
-    e = c[4] + y * e
-    e = c[3] + y * e
-    e = c[2] + y * e
-    e = c[1] + y * e
-    return c[0] + y * e
+    e = 0.0
+    for c in _EXP_C:
+        e = c + y * e
+    return e
 
 
 @_jit(cache=True, inline="always")
@@ -203,12 +178,10 @@ def _geometry(m, f, it, o, ax, r2_min):
 
 @_jit(cache=True, inline="always")
 def _geometry_lines(m, group, f, it, o, ax, r2_min, h_node, h_slope, h_off, hn):
-    """:func:`_geometry` for vertical lines of ``group`` points (same east and north) and an
-    antenna without mechanical tilt, whose ``x_a`` and ``y_a`` do not change along a line:
-    ``phi`` and the horizontal cut are taken once per line and spread over its points (the
-    cut value in row 9, rows 4 and 10 zero, so that :func:`_additive` reads it unchanged;
-    rows 11-13 carry the line's ``r^2`` in the horizontal, ``z_a`` at ``dz = 0`` and
-    ``rho``). Every sum keeps the association of :func:`_geometry`: the same numbers."""
+    """:func:`_geometry` for vertical lines of ``group`` points and an antenna without
+    mechanical tilt (``x_a``, ``y_a`` constant along a line): ``phi`` and the horizontal cut
+    once per line, spread over its points (cut value in row 9, rows 4 and 10 zero, as
+    :func:`_additive` reads them). Sums keep :func:`_geometry`'s association: same numbers."""
     h_inv = hn / 360.0
     for g in range(m // group):  # once per line
         q0 = g * group
@@ -521,22 +494,9 @@ class FarFieldPlan:
 
 
 def prepare_far_field(radiators: Sequence) -> FarFieldPlan:
-    """Tables of the fused kernel for ``radiators`` (all :func:`fast_eligible`).
-
-    Parameters
-    ----------
-    radiators : sequence of Radiator
-        Sources in the order of the weight columns.
-
-    Returns
-    -------
-    FarFieldPlan
-
-    Raises
-    ------
-    PatternError
-        A radiator whose pattern the kernel cannot take (names its index and pattern).
-    """
+    """The kernel's :class:`FarFieldPlan` for ``radiators`` (in the order of the weight
+    columns); raises :class:`~siteexposure.errors.PatternError` naming the first radiator
+    whose pattern the kernel cannot take (see :func:`fast_eligible`)."""
     from siteexposure.errors import PatternError
     from siteexposure.physics.farfield import reactive_near_field_radius_m
     from siteexposure.physics.orientation import antenna_axes
@@ -743,9 +703,9 @@ def _nan_weighted_sums(s: np.ndarray, weights: np.ndarray) -> np.ndarray:
 def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
     """Weighted exposure-ratio sums of the engine's sources, fused where possible.
 
-    Sources whose chosen model is ``far-field`` and whose pattern is a pattern file go
-    through :func:`far_field_ratio_sums` (compiled kernel or numpy reference); every other
-    source through :func:`siteexposure.physics.sources.power_density`. The result equals
+    Sources whose chosen model is ``far-field`` and whose pattern is a pattern file take
+    :func:`far_field_ratio_sums`; every other source
+    :func:`siteexposure.physics.sources.power_density`. Equals
     ``weighted_sums(densities(sources, points), weights)`` of
     :mod:`siteexposure.engine.evaluate`.
 
@@ -754,10 +714,8 @@ def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
     sources : sequence
         Objects with ``radiator`` (Radiator) and ``choice`` (ModelChoice), e.g.
         :class:`siteexposure.engine.evaluate.Source`.
-    points_enu : array_like, shape (n_point, 3)
-        Field points in the site frame. [m]
-    weights : array_like, shape (n_combo, n_source)
-        Weight of each source in each combination. [m^2/W]
+    points_enu, weights : array_like
+        As for :func:`far_field_ratio_sums`. [m], [m^2/W]
 
     Returns
     -------
@@ -788,28 +746,25 @@ def reduced_ratio_sums(sources: Sequence, points_enu, weights, group: int, is_ma
                        ) -> np.ndarray:
     """:func:`ratio_sums` reduced over consecutive groups of points (averaging lines).
 
-    Equals ``np.where(is_max[:, None], r.max(axis=2), r.mean(axis=2))`` with ``r =
-    ratio_sums(...).reshape(n_combo, -1, group)`` -- the reduction of
-    :func:`siteexposure.engine.evaluate.column_ratios` -- and when every source takes the
-    kernel, the kernel reduces as it goes, so that not even the ``(n_combo, n_point)`` sums
-    are held.
+    Equals ``np.where(is_max[:, None], r.max(axis=2), r.mean(axis=2))``, ``r =
+    ratio_sums(...).reshape(n_combo, -1, group)`` (the reduction of
+    :func:`siteexposure.engine.evaluate.column_ratios`); when every source takes the kernel
+    it reduces as it goes and the ``(n_combo, n_point)`` sums are never held.
 
     Parameters
     ----------
-    sources : sequence
-        Objects with ``radiator`` and ``choice`` (see :func:`ratio_sums`).
-    points_enu : array_like, shape (n_group * group, 3)
-        Field points, each group of ``group`` consecutive points one averaging line. [m]
-    weights : array_like, shape (n_combo, n_source)
-        Weight of each source in each combination. [m^2/W]
+    sources, weights
+        As for :func:`ratio_sums`.
+    points_enu : array_like, shape (n_line * group, 3)
+        Field points, each run of ``group`` consecutive points one averaging line. [m]
     group : int
         Points per averaging line. [1]
     is_max : array_like of bool, shape (n_combo,)
-        Per combination: the maximum of the line (peak) instead of its mean.
+        Per combination: the line's maximum (peak) instead of its mean.
 
     Returns
     -------
-    ndarray, shape (n_combo, n_group)
+    ndarray, shape (n_combo, n_line)
         Reduced exposure ratios; NaN where any point of a line is NaN. [1]
     """
     from siteexposure.errors import InputError
