@@ -12,8 +12,9 @@ repeats and keeping the best of each:
 2. a bare numpy pass over the same points and sources, chunked the same way, that computes
    only ``K / r^2`` into the ``(n_source, chunk)`` block, written as fast as plain numpy
    goes (one array per coordinate, in-place); ``ratio_vs_bare_numpy`` is (1) over (2), both
-   measured in this run (also the CPU time per pair of both, summed over threads, and the
-   same bare pass written with ``einsum`` offsets as the engine writes distances);
+   measured in this run (also: the fast path on one numba thread, which shows the work per
+   pair when other programs hold a core; the CPU time per pair of both, summed over threads;
+   and the same bare pass written with ``einsum`` offsets as the engine writes distances);
 3. the same engine loop without the fast path (``SITEEXPOSURE_NO_NUMBA=1``, the plain numpy
    models), for comparison, and the largest relative difference between the two results
    (``fast_vs_plain_max_rel_diff``, with the count of differing NaN flags);
@@ -496,9 +497,25 @@ def main(argv=None) -> int:
             with fast_engine(state):
                 eng.run()
 
+        def fast_run_1thread():
+            import numba
+
+            n = numba.get_num_threads()
+            numba.set_num_threads(1)
+            try:
+                fast_run()
+            finally:
+                numba.set_num_threads(n)
+
         cpu: dict = {}
-        best = best_times({"bare": lambda: bare_pass(eng), "far_field": fast_run,
-                           "bare_einsum": lambda: bare_pass_einsum(eng)}, repeats, cpu)
+        tasks = {"bare": lambda: bare_pass(eng), "far_field": fast_run,
+                 "bare_einsum": lambda: bare_pass_einsum(eng)}
+        if out["numba"]:
+            tasks["far_field_1thread"] = fast_run_1thread
+        best = best_times(tasks, repeats, cpu)
+        if out["numba"]:
+            out.update(far_field_1thread_pairs_per_s=pairs / best["far_field_1thread"],
+                       ratio_vs_bare_numpy_1thread=best["bare"] / best["far_field_1thread"])
         out.update(far_field_pairs_per_s=pairs / best["far_field"],
                    bare_pairs_per_s=pairs / best["bare"],
                    ratio_vs_bare_numpy=best["bare"] / best["far_field"],
@@ -574,6 +591,7 @@ def print_human(out: dict) -> None:
         ("CPU ns per pair: far field / bare", f"{out['far_field_cpu_ns_per_pair']:.3g} / "
                                               f"{out['bare_cpu_ns_per_pair']:.3g}"),
         ("ratio_vs_bare_numpy", fmt(out["ratio_vs_bare_numpy"])),
+        ("the same with one numba thread", fmt(out.get("ratio_vs_bare_numpy_1thread"))),
         ("engine loop without fast path pairs/s", fmt(out["engine_numpy_pairs_per_s"])),
         ("fast vs plain: max relative difference", f"{out['fast_vs_plain_max_rel_diff']:.2g} "
                                                    f"({out['fast_vs_plain_nan_mismatch']} NaN "
