@@ -27,9 +27,10 @@ import numpy as np
 
 from siteexposure.containers import Site
 from siteexposure.engine.combos import POPULATIONS, ComboTable, build_combos, governing
-from siteexposure.engine.evaluate import BLOCK_ELEMENTS, Source, densities, weighted_sums
+from siteexposure.engine.evaluate import BLOCK_ELEMENTS, Source, densities
 from siteexposure.engine.result import SiteResult
 from siteexposure.errors import InputError
+from siteexposure.physics.exposure import weighted_sums
 
 __all__ = ["adaptive_cut", "cut_extent", "cut_points_enu", "elevation_cut"]
 

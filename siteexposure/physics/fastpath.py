@@ -49,6 +49,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from siteexposure.physics.exposure import weighted_sums
+
 try:  # optional accelerator (the "fast" extra)
     import numba as _numba
 except ImportError:  # pragma: no cover - exercised by the no-numba subprocess test
@@ -690,16 +692,6 @@ def _cached_plan(rads: tuple) -> FarFieldPlan:
     return plan
 
 
-def _nan_weighted_sums(s: np.ndarray, weights: np.ndarray) -> np.ndarray:
-    """``weights @ s``, NaN where a weighted source is NaN (the rule of ``weighted_sums``)."""
-    bad = np.isnan(s)
-    r = weights @ np.where(bad, 0.0, s)
-    if bad.any():
-        touched = (weights != 0).astype(float) @ bad.astype(float)
-        r[touched > 0] = np.nan
-    return r
-
-
 def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
     """Weighted exposure-ratio sums of the engine's sources, fused where possible.
 
@@ -738,7 +730,7 @@ def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
         for k, i in enumerate(rest):
             s_i, ok = power_density(srcs[i].radiator, srcs[i].choice, pts)
             s[k] = np.where(ok, s_i, np.nan)
-        out = out + _nan_weighted_sums(s, w[:, rest])
+        out = out + weighted_sums(s, w[:, rest])
     return out
 
 

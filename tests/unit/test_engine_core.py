@@ -7,8 +7,8 @@ from hypothesis import strategies as st
 
 from siteexposure.containers import Area, Averaging
 from siteexposure.engine.combos import governing
-from siteexposure.engine.evaluate import weighted_sums
 from siteexposure.engine.grid import build_grid, grid_axes
+from siteexposure.physics.exposure import weighted_sums
 
 
 def _area(outline, floor=0.0, access="public"):

@@ -19,9 +19,10 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from siteexposure.engine.evaluate import Source, densities, weighted_sums
+from siteexposure.engine.evaluate import Source, densities
 from siteexposure.errors import InputError, PatternError
 from siteexposure.physics import fastpath
+from siteexposure.physics.exposure import weighted_sums
 from siteexposure.physics.farfield import reactive_near_field_radius_m
 from siteexposure.physics.patterns import parametric_pattern
 from siteexposure.physics.radiator import Radiator
@@ -224,7 +225,8 @@ from siteexposure.physics import fastpath
 from siteexposure.physics.radiator import Radiator
 from siteexposure.physics.sources import choose_model
 from siteexposure.physics.synthesis import TablePattern
-from siteexposure.engine.evaluate import Source, densities, weighted_sums
+from siteexposure.engine.evaluate import Source, densities
+from siteexposure.physics.exposure import weighted_sums
 assert fastpath._numba is None and not fastpath.fast_available()
 p = TablePattern([0, 90, 180, 270], [10, 2, -5, 2], [-90, 0, 90], [-8, 10, -8],
                  [-90, 0, 90], [-8, -5, -8], peak_gain_dbi=10.0)
