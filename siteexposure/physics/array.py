@@ -484,20 +484,14 @@ class ArraySynthesis:
         return s.reshape(shape) * self.reflection_factor, ok.reshape(shape)
 
     def _density(self, rho, za) -> np.ndarray:
-        """Density of the column without the element factor at cylindrical (rho, z). [W/m^2]"""
-        k = 2.0 * np.pi / self.wavelength_m
-        dz = za[None, :] - self.z_m[:, None]  # (n_sub, n_point)
-        rr = np.hypot(rho[None, :], dz)
-        c = dz / rr
-        sn = rho[None, :] / rr
-        kr = k * rr
-        ph = np.exp(-1j * kr)
-        inv = 1.0 / (1j * kr)
-        e_r = (ETA0 / (2.0 * np.pi)) * c / rr**2 * (1.0 + inv) * ph
-        e_t = (1j * ETA0 * k / (4.0 * np.pi)) * sn / rr * (1.0 + inv - 1.0 / kr**2) * ph
-        e_rho = self.moments @ (e_r * sn + e_t * c)
-        e_z = self.moments @ (e_r * c - e_t * sn)
-        return (np.abs(e_rho) ** 2 + np.abs(e_z) ** 2) / (2.0 * ETA0)
+        """Density of the column without the element factor at cylindrical (rho, z). [W/m^2]
+
+        The coherent sum runs in :func:`siteexposure.physics.array_kernel.column_density`
+        (compiled when numba is installed, its numpy reference otherwise).
+        """
+        from siteexposure.physics.array_kernel import column_density
+
+        return column_density(rho, za, self.z_m, self.moments, self.wavelength_m)
 
 
 def _lookup(table, phi, theta, other=None):

@@ -1,0 +1,132 @@
+"""Compiled coherent sum of the array-synthesis column (numba when installed).
+
+The field of a column of short current elements at cylindrical coordinates (rho, z) of
+the antenna frame, summed coherently over the elements, is the inner loop of the array
+model (:meth:`siteexposure.physics.array.ArraySynthesis.power_density`). The numpy form
+materialises several complex ``(n_sub, n_point)`` temporaries; this kernel loops over
+points and elements with scalar arithmetic and holds nothing of that size. Without numba
+(or with ``SITEEXPOSURE_NO_NUMBA=1``) the numpy reference :func:`column_density_reference`
+runs; both compute the same quantity (tested to 1e-9 relative).
+
+References
+----------
+C. A. Balanis, *Antenna Theory: Analysis and Design*, 4th ed., Wiley, 2016, §4.2
+(fields of an infinitesimal dipole, all terms; equation numbers from memory: 4-8a,
+4-10a, 4-10b).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from siteexposure.constants import ETA0
+from siteexposure.physics.fastpath import _jit, _prange, fast_available
+
+_TWO_PI = 2.0 * math.pi
+_FOUR_PI = 4.0 * math.pi
+
+
+def column_density_reference(rho, za, z_m, moments, wavelength_m) -> np.ndarray:
+    """Density of the column without its element factor (numpy reference). [W/m^2]
+
+    Parameters
+    ----------
+    rho, za : ndarray, shape (n_point,)
+        Horizontal distance from the column axis and height along it. [m]
+    z_m : ndarray, shape (n_sub,)
+        Element positions along the axis. [m]
+    moments : ndarray of complex, shape (n_sub,)
+        Current moments ``I l`` (peak phasors). [A m]
+    wavelength_m : float
+        Free-space wavelength. [m]
+
+    Notes
+    -----
+    With ``R`` the distance from element ``n`` and ``c = cos``, ``s = sin`` of its polar
+    angle::
+
+        E_r = eta p_n c / (2 pi R^2) (1 + 1/(j k R)) exp(-j k R)
+        E_t = j eta k p_n s / (4 pi R) (1 + 1/(j k R) - 1/(k R)^2) exp(-j k R)
+        S = (|sum E_r s + E_t c|^2 + |sum E_r c - E_t s|^2) / (2 eta)
+    """
+    k = _TWO_PI / wavelength_m
+    dz = za[None, :] - z_m[:, None]
+    rr = np.hypot(rho[None, :], dz)
+    c = dz / rr
+    sn = rho[None, :] / rr
+    kr = k * rr
+    ph = np.exp(-1j * kr)
+    inv = 1.0 / (1j * kr)
+    e_r = (ETA0 / _TWO_PI) * c / rr**2 * (1.0 + inv) * ph
+    e_t = (1j * ETA0 * k / _FOUR_PI) * sn / rr * (1.0 + inv - 1.0 / kr**2) * ph
+    e_rho = moments @ (e_r * sn + e_t * c)
+    e_z = moments @ (e_r * c - e_t * sn)
+    return (np.abs(e_rho) ** 2 + np.abs(e_z) ** 2) / (2.0 * ETA0)
+
+
+@_jit(parallel=True, cache=True)
+def _column_kernel(rho, za, z_m, m_re, m_im, k, eta, out):  # pragma: no cover - compiled
+    n_pt = rho.size
+    n_sub = z_m.size
+    a_r = eta / (2.0 * math.pi)
+    a_t = eta * k / (4.0 * math.pi)
+    for p in _prange(n_pt):
+        rp = rho[p]
+        zp = za[p]
+        er_re = 0.0
+        er_im = 0.0
+        ez_re = 0.0
+        ez_im = 0.0
+        for n in range(n_sub):
+            dz = zp - z_m[n]
+            rr = math.sqrt(rp * rp + dz * dz)
+            c = dz / rr
+            s = rp / rr
+            kr = k * rr
+            cph = math.cos(kr)
+            sph = -math.sin(kr)  # exp(-j kr) = cph + j sph
+            ikr = 1.0 / kr
+            # E_r / p = a_r c / R^2 (1 - j/kr) e^{-jkr}
+            fr = a_r * c / (rr * rr)
+            r_re = fr * (cph + ikr * sph)
+            r_im = fr * (sph - ikr * cph)
+            # E_t / p = j a_t s / R (1 - ikr^2 - j ikr) e^{-jkr}
+            ft = a_t * s / rr
+            q_re = 1.0 - ikr * ikr
+            q_im = -ikr
+            # (q_re + j q_im) e^{-jkr}, then times j
+            u_re = q_re * cph - q_im * sph
+            u_im = q_re * sph + q_im * cph
+            t_re = -ft * u_im
+            t_im = ft * u_re
+            # contributions to E_rho and E_z per unit moment
+            gr_re = r_re * s + t_re * c
+            gr_im = r_im * s + t_im * c
+            gz_re = r_re * c - t_re * s
+            gz_im = r_im * c - t_im * s
+            mr = m_re[n]
+            mi = m_im[n]
+            er_re += mr * gr_re - mi * gr_im
+            er_im += mr * gr_im + mi * gr_re
+            ez_re += mr * gz_re - mi * gz_im
+            ez_im += mr * gz_im + mi * gz_re
+        out[p] = (er_re * er_re + er_im * er_im + ez_re * ez_re + ez_im * ez_im) / (2.0 * eta)
+
+
+def column_density(rho, za, z_m, moments, wavelength_m) -> np.ndarray:
+    """Density of the column without its element factor, compiled when numba is present. [W/m^2]
+
+    Same arguments and result as :func:`column_density_reference`.
+    """
+    rho = np.ascontiguousarray(rho, dtype=float).ravel()
+    za = np.ascontiguousarray(za, dtype=float).ravel()
+    z = np.ascontiguousarray(z_m, dtype=float)
+    m = np.asarray(moments, dtype=complex)
+    if not fast_available():
+        return column_density_reference(rho, za, z, m, wavelength_m)
+    out = np.empty(rho.size)
+    _column_kernel(rho, za, z, np.ascontiguousarray(m.real), np.ascontiguousarray(m.imag),
+                   _TWO_PI / wavelength_m, ETA0, out)
+    return out
