@@ -80,6 +80,20 @@ def _err(src: str, line: int | None, message: str) -> PatternError:
     return PatternError(f"{where}: {message}")
 
 
+def _short(text: str) -> str:
+    """``repr`` of a piece of the file, shortened to keep a message on one readable line."""
+    return repr(text if len(text) <= 60 else text[:57] + "...")
+
+
+def _fields(line: str, src: str, n: int) -> list[str]:
+    """The comma-separated fields of one line (csv rules), or a PatternError naming the line."""
+    try:
+        return next(csv.reader([line]))
+    except csv.Error as exc:  # e.g. a field longer than the csv module's field size limit
+        raise _err(src, n, f"row {_short(line)} cannot be split into fields ({exc}); expected "
+                           f"four comma-separated fields ({','.join(TABLE_HEADER)})") from None
+
+
 def parse_pattern_text(text: str, src: str) -> tuple[dict, dict]:
     """Parse the text of a pattern CSV v1 file.
 
@@ -111,15 +125,15 @@ def parse_pattern_text(text: str, src: str) -> tuple[dict, dict]:
                     (lo, hi), expected = _NUMERIC_KEYS[key]
                     number = _parse_number(value)
                     if number is None or not lo <= number <= hi:
-                        raise _err(src, n, f"header key '{key}' = {value!r}; expected {expected}")
+                        raise _err(src, n, f"header key '{key}' = {_short(value)}; expected {expected}")
                     metadata[key] = number
                 else:
                     metadata[key] = value
             continue
         header_line = n
-        fields = tuple(f.strip().lower() for f in next(csv.reader([line])))
+        fields = tuple(f.strip().lower() for f in _fields(line, src, n))
         if fields != TABLE_HEADER:
-            raise _err(src, n, f"table header is {line!r}; expected '{','.join(TABLE_HEADER)}'"
+            raise _err(src, n, f"table header is {_short(line)}; expected '{','.join(TABLE_HEADER)}'"
                                " after the '#' header lines")
         break
     if header_line is None:
@@ -134,30 +148,30 @@ def parse_pattern_text(text: str, src: str) -> tuple[dict, dict]:
         line = lines[n - 1].strip()
         if not line or line.startswith("#"):
             continue
-        row = [f.strip() for f in next(csv.reader([line]))]
+        row = [f.strip() for f in _fields(line, src, n)]
         if len(row) != 4:
-            raise _err(src, n, f"row {line!r} has {len(row)} fields; expected 4 "
+            raise _err(src, n, f"row {_short(line)} has {len(row)} fields; expected 4 "
                                f"({','.join(TABLE_HEADER)})")
         cut, side, angle_text, gain_text = row
         cut_l, side_l = cut.lower(), side.lower()
         if cut_l == "horizontal":
             if side_l:
-                raise _err(src, n, f"side = {side!r} on a horizontal row; expected it empty")
+                raise _err(src, n, f"side = {_short(side)} on a horizontal row; expected it empty")
             key, lo, hi, what = "horizontal", 0.0, 360.0, "an azimuth within 0..360 deg"
         elif cut_l == "vertical":
             if side_l not in ("front", "back"):
-                raise _err(src, n, f"side = {side!r} on a vertical row; expected front or back")
+                raise _err(src, n, f"side = {_short(side)} on a vertical row; expected front or back")
             key, lo, hi, what = side_l, -90.0, 90.0, "an elevation within -90..+90 deg"
         else:
-            raise _err(src, n, f"cut = {cut!r}; expected horizontal or vertical")
+            raise _err(src, n, f"cut = {_short(cut)}; expected horizontal or vertical")
         angle = _parse_number(angle_text)
         if angle is None:
-            raise _err(src, n, f"angle_deg = {angle_text!r}; expected a finite number, {what}")
+            raise _err(src, n, f"angle_deg = {_short(angle_text)}; expected a finite number, {what}")
         if not lo <= angle <= hi:
             raise _err(src, n, f"angle_deg = {angle_text} is out of range; expected {what}")
         gain = _parse_number(gain_text)
         if gain is None or not GAIN_RANGE_DBI[0] <= gain <= GAIN_RANGE_DBI[1]:
-            raise _err(src, n, f"gain_dbi = {gain_text!r}; expected a finite gain in dBi within "
+            raise _err(src, n, f"gain_dbi = {_short(gain_text)}; expected a finite gain in dBi within "
                                f"{GAIN_RANGE_DBI[0]:g}..{GAIN_RANGE_DBI[1]:g}")
         cuts[key].append((angle, gain, n))
     return metadata, cuts

@@ -18,14 +18,25 @@ from siteexposure.containers import ACCESS_WORDS, MODEL_WORDS
 from siteexposure.errors import LimitsError
 from siteexposure.physics.patterns import PARAMETRIC_MODELS
 
-__all__ = ["SiteFile", "site_json_schema"]
+__all__ = ["MAX_REACH_M", "SiteFile", "site_json_schema"]
 
 # --------------------------------------------------------------------------------------
 # the tables (the JSON Schema is generated from these models)
 # --------------------------------------------------------------------------------------
 
+#: Every local coordinate (east, north, height, floor) lies within this distance of the site
+#: origin: the local frame is a tangent plane good to millimetres there (see siteexposure.geo),
+#: and the bound keeps every product of the field formulas finite. [m]
+MAX_REACH_M = 10_000.0
+#: Largest power per carrier (tx_power_w, and tx_power_dbm <= 100 dBm): 10 MW. [W]
+MAX_TX_POWER_W = 1.0e7
+#: Plausible physical size of a radiating aperture (panel, collinear, dish). [m]
+APERTURE_RANGE_M = (1.0e-3, 100.0)
+
+Coordinate = Annotated[float, Field(ge=-MAX_REACH_M, le=MAX_REACH_M)]
 Pair = Annotated[list[float], Field(min_length=2, max_length=2)]
-Triple = Annotated[list[float], Field(min_length=3, max_length=3)]
+EastNorth = Annotated[list[Coordinate], Field(min_length=2, max_length=2)]
+Triple = Annotated[list[Coordinate], Field(min_length=3, max_length=3)]
 Access = Literal[ACCESS_WORDS]  # public | worker | none
 ModelWord = Literal[MODEL_WORDS]  # auto | far-field | cylindrical | array | aperture
 _PATTERN_JSON = {
@@ -73,8 +84,8 @@ class AveragingTable(_Table):
         description="'vertical-line' takes the mean of the points of a vertical line standing "
         "on the floor, 'peak' their maximum.",
     )
-    bottom_m: float = Field(0.0, ge=0.0, description="Lowest point above the floor. [m]")
-    top_m: float = Field(2.0, gt=0.0, description="Highest point above the floor. [m]")
+    bottom_m: float = Field(0.0, ge=0.0, le=100.0, description="Lowest point above the floor. [m]")
+    top_m: float = Field(2.0, gt=0.0, le=100.0, description="Highest point above the floor. [m]")
     points: int = Field(
         10,
         ge=1,
@@ -122,8 +133,8 @@ class AreaTable(_Table):
     )
     name: str = Field(min_length=1, description="Area name, unique in the file.")
     access: Access = Field(description="Who can stand here: public | worker | none.")
-    floor_m: float = Field(description="Standing surface height above site ground. [m]")
-    outline: list[Pair] | None = Field(
+    floor_m: Coordinate = Field(description="Standing surface height above site ground. [m]")
+    outline: list[EastNorth] | None = Field(
         None, min_length=3, description="Polygon vertices [[east, north], ...] in local metres. [m]"
     )
     outline_lonlat: list[Pair] | None = Field(
@@ -145,10 +156,13 @@ class ApertureTable(_Table):
             "oneOf": [{"required": ["height_m"]}, {"required": ["diameter_m"]}],
         }
     )
-    height_m: float | None = Field(None, gt=0.0, description="Aperture height (length of a "
-                                   "panel or collinear). [m]")
-    width_m: float | None = Field(None, gt=0.0, description="Aperture width. [m]")
-    diameter_m: float | None = Field(None, gt=0.0, description="Dish diameter. [m]")
+    height_m: float | None = Field(None, ge=APERTURE_RANGE_M[0], le=APERTURE_RANGE_M[1],
+                                   description="Aperture height (length of a panel or "
+                                   "collinear). [m]")
+    width_m: float | None = Field(None, ge=APERTURE_RANGE_M[0], le=APERTURE_RANGE_M[1],
+                                  description="Aperture width. [m]")
+    diameter_m: float | None = Field(None, ge=APERTURE_RANGE_M[0], le=APERTURE_RANGE_M[1],
+                                     description="Dish diameter. [m]")
 
 
 class AntennaTable(_Table):
@@ -176,10 +190,12 @@ class AntennaTable(_Table):
     )
     frequency_mhz: float = Field(gt=0.0, description="Carrier frequency. [MHz]")
     tx_power_w: float | None = Field(
-        None, gt=0.0, description="Power per carrier at the transmitter output. [W]"
+        None, gt=0.0, le=MAX_TX_POWER_W,
+        description="Power per carrier at the transmitter output. [W]",
     )
     tx_power_dbm: float | None = Field(
-        None, le=100.0, description="Power per carrier at the transmitter output. [dBm]"
+        None, ge=-100.0, le=100.0,
+        description="Power per carrier at the transmitter output. [dBm]",
     )
     carriers: int = Field(1, ge=1, le=10_000, description="Number of carriers. [1]")
     line_loss_db: float = Field(
@@ -194,10 +210,11 @@ class AntennaTable(_Table):
     )
     pattern: PatternValue
     gain_dbi: float | None = Field(
-        None, description="Rescale a pattern file to this peak gain. [dBi]"
+        None, ge=-30.0, le=70.0, description="Rescale a pattern file to this peak gain. [dBi]"
     )
     gain_dbd: float | None = Field(
-        None, description="Rescale a pattern file to this peak gain (dBi = dBd + 2.15). [dBd]"
+        None, ge=-32.15, le=67.85,
+        description="Rescale a pattern file to this peak gain (dBi = dBd + 2.15). [dBd]",
     )
     aperture: ApertureTable | None = Field(
         None,

@@ -50,6 +50,7 @@ from pydantic import BaseModel, ValidationError
 from siteexposure.containers import Antenna, Area, Averaging, Receptor, Site
 from siteexposure.errors import InputError, LimitsError, PatternError, SiteExposureWarning
 from siteexposure.readers.site_model import (
+    MAX_REACH_M,
     AntennaTable,
     ApertureTable,
     AreaTable,
@@ -60,7 +61,7 @@ from siteexposure.readers.site_model import (
 __all__ = ["read_site", "site_json_schema"]
 
 FLOOR_TOLERANCE_M = 0.05  #: a radiation centre this close to a floor, inside it, is an error
-MAX_LONLAT_REACH_M = 10_000.0  #: outline_lonlat vertices further than this from the origin
+MAX_LONLAT_REACH_M = MAX_REACH_M  #: outline_lonlat vertices further than this from the origin
 MIN_OUTLINE_AREA_M2 = 1.0e-4  #: outlines smaller than this (1 cm^2) are degenerate
 
 # --------------------------------------------------------------------------------------
@@ -241,14 +242,15 @@ _TOML_POS = re.compile(r"^(?P<msg>.*?)\s*\(at line (?P<line>\d+), column (?P<col
 
 
 def _read_bytes(path: Path, what: str) -> bytes:
-    if not path.exists():
-        raise InputError(f"{path}: {what} not found")
-    if path.is_dir():
-        raise InputError(f"{path}: is a folder; expected a {what}")
     try:
+        if not path.exists():
+            raise InputError(f"{path}: {what} not found")
+        if path.is_dir():
+            raise InputError(f"{path}: is a folder; expected a {what}")
         return path.read_bytes()
-    except OSError as exc:
-        raise InputError(f"{path}: {what} cannot be read ({exc.strerror or exc})") from exc
+    except OSError as exc:  # e.g. a name too long, a FIFO that cannot be opened
+        name = str(path) if len(str(path)) <= 100 else str(path)[:97] + "..."
+        raise InputError(f"{name}: {what} cannot be read ({exc.strerror or exc})") from None
 
 
 def _parse_toml(data: bytes, file: str) -> dict[str, Any]:
@@ -508,6 +510,11 @@ class _Builder:
         spec = t.pattern
         tilt = 0.0 if t.electrical_tilt_deg is None else float(t.electrical_tilt_deg)
         if isinstance(spec, dict):
+            model = spec.get("model")
+            if "model" in spec and not isinstance(model, str):
+                raise _fail(self.file, f"{where} > pattern > model", model,
+                            "expected the name of a parametric model in quotes, e.g. "
+                            "\"3gpp-panel\"")
             if t.gain_dbi is not None or t.gain_dbd is not None:
                 key = "gain_dbi" if t.gain_dbi is not None else "gain_dbd"
                 raise _fail(self.file, f"{where} > {key}", getattr(t, key),
@@ -524,9 +531,16 @@ class _Builder:
             raise _fail(self.file, f"{where} > pattern", spec, "expected a pattern file path "
                         "in quotes or an inline table { model = ..., ... }")
         path = self.folder / spec
-        if not path.is_file():
+        try:
+            found = "a folder" if path.is_dir() else ("a file" if path.is_file() else "")
+        except OSError as exc:  # e.g. a name too long for the file system
             raise _fail(self.file, f"{where} > pattern", spec,
-                        f"pattern file not found at {path}; expected a pattern CSV v1 file "
+                        f"cannot be used as a file name ({exc.strerror or exc}); expected the "
+                        "path of a pattern CSV v1 file") from None
+        if found != "a file":
+            what = f"{path} is a folder" if found else f"pattern file not found at {path}"
+            raise _fail(self.file, f"{where} > pattern", spec,
+                        f"{what}; expected a pattern CSV v1 file "
                         "(relative paths start at the site file's folder)")
         pattern = self.read_pattern(path, where)
         file_tilt = float(pattern.electrical_tilt_deg)
