@@ -30,7 +30,7 @@ from siteexposure.engine.result import (
     PointResult,
     SiteResult,
 )
-from siteexposure.errors import InputError
+from siteexposure.errors import InputError, LimitsError
 
 RESPONSIBLE_SHARE = 0.05  #: 47 CFR 1.1307(b)(5): operators above 5 % of their limit share responsibility
 
@@ -60,21 +60,136 @@ def build_sources(site: Site) -> tuple[list[Source], list[AntennaResult]]:
     return sources, records
 
 
-def check_grid_size(site: Site) -> None:
-    """Refuse grids too large for memory up front, with the estimate and advice."""
-    k = len(site.averaging.heights_m())
-    for area in site.areas:
-        if area.access == "none":
+#: Gauss-Legendre order of the array model's sphere integral per radian of electrical
+#: aperture length, and its floor (siteexposure.physics.array._radiated_power)
+_ARRAY_NODES_PER_RAD = 6.0
+_ARRAY_MIN_NODES = 256
+_ARRAY_BYTES_PER_NODE2 = 16  #: numpy's leggauss solves a dense n x n eigenproblem
+_ARRAY_SECONDS_PER_NODE3 = 1.0e-10  #: and takes about this long per n^3 (measured, rounded up)
+
+
+def _array_preparation(site: Site) -> tuple[int, float, str | None]:
+    """Peak memory [bytes], total time [s] and worst antenna id of the array models' setup.
+
+    The array-synthesis model normalises each distinct column (pattern, frequency, aperture
+    height, tilt) by a sphere integral whose order grows with the electrical length
+    ``k L``; its Gauss-Legendre nodes cost ``O(n^2)`` memory and ``O(n^3)`` time.
+    """
+    from siteexposure.constants import C0, MHZ
+    from siteexposure.physics.sources import choose_model
+
+    peak, seconds, worst, seen = 0, 0.0, None, set()
+    for ant in site.antennas:
+        h = ant.aperture_height_m
+        if not h or choose_model(ant.radiator(), ant.model).word != "array":
             continue
+        key = (id(ant.pattern), ant.frequency_mhz, h, ant.electrical_tilt_deg)
+        if key in seen:
+            continue
+        seen.add(key)
+        k = 2.0 * np.pi * ant.frequency_mhz * MHZ / C0
+        n = max(_ARRAY_MIN_NODES, int(_ARRAY_NODES_PER_RAD * k * h))
+        seconds += _ARRAY_SECONDS_PER_NODE3 * n**3
+        if _ARRAY_BYTES_PER_NODE2 * n * n > peak:
+            peak, worst = _ARRAY_BYTES_PER_NODE2 * n * n, ant.id
+    return peak, seconds, worst
+
+
+def _gib(n: float) -> str:
+    return f"{n / 1024**3:.2f} GB" if n >= 0.1 * 1024**3 else f"{n / 1024**2:.0f} MB"
+
+
+def check_grid_size(site: Site) -> None:
+    """Refuse, up front, a site whose grids or models would not fit in memory or time.
+
+    Three estimates are made before anything is allocated, from the outlines and the
+    antennas alone:
+
+    * evaluation points per area (cells x averaging heights) against
+      :data:`~siteexposure.engine.grid.MAX_POINTS_PER_AREA` (run time);
+    * the memory of the run -- the stored ratio grids of every area (cells x
+      (limit set, population) keys x 8 bytes) plus the working arrays of the largest area,
+      one evaluation chunk and the contouring work
+      (:func:`~siteexposure.engine.grid.estimate_memory_bytes`) -- against
+      :func:`~siteexposure.engine.grid.memory_budget_bytes`;
+    * the array-synthesis models' set-up (memory grows with the square of the electrical
+      aperture length) against the same budget.
+
+    Raises
+    ------
+    InputError
+        Naming the file, the estimate, the budget and a coarser ``resolution_m`` that would
+        fit (or, for an array model, the antenna and the model to use instead).
+    """
+    from siteexposure.engine.evaluate import BLOCK_ELEMENTS
+    from siteexposure.engine.grid import estimate_memory_bytes, memory_budget_bytes
+
+    file = site.source_path or "site"
+    k = len(site.averaging.heights_m())
+    evaluated = [a for a in site.areas if a.access != "none"]
+    n_sets = len(site.limits)
+    n_keys = n_sets * len(POPULATIONS)
+    try:
+        n_combos = sum(len(ls.regions()) for ls in load_limit_sets(site).values()) * len(POPULATIONS)
+    except LimitsError:  # an unknown set is reported by the evaluation itself
+        n_combos = 2 * n_keys
+
+    def memory(res: float) -> int:
+        cells = [estimate_points(a, res) for a in evaluated]
+        return estimate_memory_bytes(cells, k, len(site.antennas), n_keys, n_combos, BLOCK_ELEMENTS)
+
+    def fits(res: float) -> bool:
+        return memory(res) <= budget and all(
+            estimate_points(a, res) * k <= MAX_POINTS_PER_AREA for a in evaluated)
+
+    def coarser() -> float:
+        """The first resolution, in 5 % steps up from the area-scaling guess, that fits."""
+        res = site.resolution_m
+        for a in evaluated:  # cells scale as (bounding box) / resolution^2
+            span = np.ptp(np.asarray(a.outline_en, dtype=float), axis=0)
+            res = max(res, float(np.sqrt(span[0] * span[1] * k / MAX_POINTS_PER_AREA)))
+        res *= max(1.0, float(np.sqrt(memory(res) / budget)))
+        for _ in range(200):
+            if fits(res):
+                break
+            res *= 1.05
+        return res
+
+    budget = memory_budget_bytes()
+    for area in evaluated:
         n = estimate_points(area, site.resolution_m) * k
         if n > MAX_POINTS_PER_AREA:
-            coarser = site.resolution_m * float(np.sqrt(n / MAX_POINTS_PER_AREA)) * 1.05
             raise InputError(
-                f"{site.source_path or 'site'}: area \"{area.name}\" at resolution_m = "
-                f"{site.resolution_m:g} needs about {n:,} evaluation points (limit "
-                f"{MAX_POINTS_PER_AREA:,}); expected a coarser resolution_m (about {coarser:.2g} m) "
-                f"or a smaller area"
+                f"{file}: area \"{area.name}\" at resolution_m = {site.resolution_m:g} needs "
+                f"about {n:,} evaluation points ({n // k:,} cells x {k} averaging heights; "
+                f"limit {MAX_POINTS_PER_AREA:,} per area, to bound the run time); expected a "
+                f"coarser resolution_m (about {coarser():.3g} m would fit) or a smaller area"
             )
+    need = memory(site.resolution_m)
+    if need > budget:
+        raise InputError(
+            f"{file}: the area grids at resolution_m = {site.resolution_m:g} need about "
+            f"{_gib(need)} of memory (budget {_gib(budget)}: {n_keys} stored ratio grids of "
+            f"{sum(estimate_points(a, site.resolution_m) for a in evaluated):,} cells, plus "
+            f"working arrays); expected a coarser resolution_m (about {coarser():.3g} m would "
+            "fit) or smaller areas"
+        )
+    _check_array_preparation(site)
+
+
+def _check_array_preparation(site: Site) -> None:
+    """Refuse array-synthesis models whose set-up would not fit the memory budget."""
+    from siteexposure.engine.grid import memory_budget_bytes
+
+    budget = memory_budget_bytes()
+    prep, seconds, worst = _array_preparation(site)
+    if prep > budget:
+        raise InputError(
+            f"{site.source_path or 'site'}: antenna \"{worst}\": the array-synthesis model of "
+            f"this aperture needs about {_gib(prep)} of memory and {seconds:,.0f} s to set up "
+            f"(budget {_gib(budget)}); expected model = \"cylindrical\" (or \"far-field\") "
+            "for this antenna, or a shorter aperture height_m"
+        )
 
 
 @contextlib.contextmanager
@@ -250,6 +365,7 @@ def evaluate_point(site: Site, at_m, *, name: str = "point", access: str = "publ
     antenna's reactive near field is reported as not assessable, never as a pass.
     """
     if _ctx is None:
+        _check_array_preparation(site)
         limit_sets = load_limit_sets(site)
         sources, _ = build_sources(site)
         table = build_combos(limit_sets, site.antennas)
