@@ -144,6 +144,7 @@ def _fused_kernel(xa, ya, za, z_m, m_re, m_im, k, eta, near_t, far_t, corr, r_ff
     r2d = 180.0 / math.pi
     a_r = eta / (2.0 * math.pi)
     a_t = eta * k / (4.0 * math.pi)
+    inv_k = 1.0 / k
     for p in _prange(n_pt):
         x = xa[p]
         y = ya[p]
@@ -195,16 +196,17 @@ def _fused_kernel(xa, ya, za, z_m, m_re, m_im, k, eta, near_t, far_t, corr, r_ff
         for n in range(n_sub):
             dz = zp - z_m[n]
             rr = math.sqrt(rho * rho + dz * dz)
-            cs = dz / rr
-            sn = rho / rr
+            inv = 1.0 / rr
+            cs = dz * inv
+            sn = rho * inv
             kr = k * rr
             cph = math.cos(kr)
             sph = -math.sin(kr)
-            ikr = 1.0 / kr
-            fr = a_r * cs / (rr * rr)
+            ikr = inv * inv_k
+            fr = a_r * cs * inv * inv
             r_re = fr * (cph + ikr * sph)
             r_im = fr * (sph - ikr * cph)
-            ft = a_t * sn / rr
+            ft = a_t * sn * inv
             q_re = 1.0 - ikr * ikr
             u_re = q_re * cph + ikr * sph
             u_im = q_re * sph - ikr * cph
