@@ -20,10 +20,14 @@ def point(
 
     from siteexposure.engine.orchestrator import evaluate_point
     from siteexposure.errors import InputError
+    from siteexposure.readers.site_model import MAX_REACH_M
     from siteexposure.readers.site_toml import read_site
 
     if not all(math.isfinite(v) for v in at):
         raise InputError(f"--at: value {list(at)} is not finite; expected three numbers E N Z in metres")
+    if not all(abs(v) <= MAX_REACH_M for v in at):
+        raise InputError(f"--at: value {list(at)} is too far from the site origin; expected three "
+                         f"numbers E N Z in metres within {MAX_REACH_M:g} m of it (as in the site file)")
     site = read_site(site_file)
     res = evaluate_point(site, at, name="point")
     if as_json:

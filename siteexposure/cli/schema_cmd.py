@@ -28,6 +28,9 @@ def schema_command(
         typer.echo(text, nl=False)
         return
     from siteexposure.atomic import write_text
+    from siteexposure.errors import OutputError
 
+    if out.is_dir():
+        raise OutputError(f"--out '{out}': is a folder; expected a file name for the schema")
     write_text(out, text)
     typer.echo(f"Wrote {out}", err=True)

@@ -209,8 +209,9 @@ def _format_validation_error(exc: ValidationError, file: str, raw: Mapping[str, 
         info = model.model_fields.get(str(loc[-1])) if model else None
         hint = ""
         if info is not None and info.description:
-            text = info.description.replace(". [", " [").rstrip(".")
-            hint = f"; expected {text[0].lower()}{text[1:]}"
+            text = re.sub(r"\. (\[[^\]]*\])$", r" \1", info.description).rstrip(".")
+            keep = len(text) > 1 and text[1].isupper()  # an acronym such as WGS84 stays
+            hint = f"; expected {text if keep else text[0].lower() + text[1:]}"
         text = f"{file}: {path}: required key is missing{hint}"
     elif kind == "extra_forbidden":
         model = _model_at(loc[:-1])
@@ -274,6 +275,12 @@ def _parse_toml(data: bytes, file: str) -> dict[str, Any]:
             raise InputError(
                 f"{file}: line {found['line']}, column {found['col']}: invalid TOML: "
                 f"{found['msg']}"
+            ) from exc
+        if msg.endswith("(at end of document)"):  # e.g. a file cut short
+            last = len(text.splitlines()) or 1
+            raise InputError(
+                f"{file}: line {last} (end of file): invalid TOML: "
+                f"{msg.removesuffix('(at end of document)').rstrip()}; is the file complete?"
             ) from exc
         raise InputError(f"{file}: invalid TOML: {msg}") from exc
 
