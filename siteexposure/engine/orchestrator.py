@@ -169,10 +169,11 @@ def check_grid_size(site: Site) -> None:
     if need > budget:
         raise InputError(
             f"{file}: the area grids at resolution_m = {site.resolution_m:g} need about "
-            f"{_gib(need)} of memory (budget {_gib(budget)}: {n_keys} stored ratio grids of "
-            f"{sum(estimate_points(a, site.resolution_m) for a in evaluated):,} cells, plus "
-            f"working arrays); expected a coarser resolution_m (about {coarser():.3g} m would "
-            "fit) or smaller areas"
+            f"{_gib(need)} of memory (budget {_gib(budget)}): "
+            f"{sum(estimate_points(a, site.resolution_m) for a in evaluated):,} cells, each "
+            f"holding {n_keys} stored ratios (limit sets x populations), plus working arrays; "
+            f"expected a coarser resolution_m (about {coarser():.3g} m would fit) or smaller "
+            "areas"
         )
     _check_array_preparation(site)
 
