@@ -225,7 +225,19 @@ def check_site_file(path: Path) -> str:
         ratio = area["max_exposure_ratio"]
         assert ratio is None or (isinstance(ratio, float | int) and math.isfinite(ratio)
                                  and ratio >= 0.0), area
+    _zones_of(path)
     return f"screened (exit {run.code})"
+
+
+def _zones_of(path: Path) -> None:
+    """The keep-out zones of a screened site (what `map` and `report` draw) build too."""
+    from siteexposure.engine.orchestrator import evaluate_site
+    from siteexposure.engine.zones import compute_zones
+    from siteexposure.readers.site_toml import read_site
+
+    with sitegen.soft_warnings_ignored():
+        for zone in compute_zones(evaluate_site(read_site(path))):
+            assert zone.area_m2 >= 0.0 and zone.geometry.is_valid
 
 
 def check_pattern_file(path: Path) -> str:
@@ -247,8 +259,18 @@ def check_pattern_file(path: Path) -> str:
     return "accepted"
 
 
+def _base(data: st.DataObject) -> dict:
+    """The deck, or (half the time) a hot deck whose limits are exceeded, so that the
+    mitigation and keep-out-zone paths run too."""
+    doc = sitegen.base_site()
+    if data.draw(st.booleans(), label="hot"):
+        doc["antenna"][0].update(tx_power_w=2000.0, position=[1.0, 2.0, 3.5])
+        doc["antenna"][1].update(tx_power_dbm=50.0)
+    return doc
+
+
 def _site_case(data: st.DataObject) -> None:
-    doc = mutate_document(data, sitegen.base_site())
+    doc = mutate_document(data, _base(data))
     try:
         text = sitegen.dump_toml(doc)
     except TypeError:  # a value with no TOML form: nothing to test
