@@ -697,3 +697,17 @@ def test_no_traceback_reaches_a_terminal(deck):
         assert "Traceback" not in err
         lines = err.strip("\n").splitlines()
         assert len(lines) == 1 and lines[0].startswith("Error: "), err
+
+
+@pytest.mark.xfail(strict=True, raises=IsADirectoryError,
+                   reason="siteexposure.atomic.atomic_path lets the OSError of os.replace "
+                   "through (a folder where an output file goes); reported to the owner")
+def test_a_folder_in_place_of_an_output_file_is_one_line(deck):
+    """`map --out DIR` where DIR/site.geojson is a folder: expected one Error line and exit 2;
+    today a traceback (IsADirectoryError from os.replace in atomic_path)."""
+    folder, site = deck
+    out = folder / "maps"
+    (out / "site.geojson").mkdir(parents=True)
+    run = sitegen.run_cli(["map", site, "--out", out, "--no-progress"])
+    line = sitegen.assert_one_line_error(run)
+    assert "site.geojson" in line
