@@ -24,16 +24,14 @@ def demo(
     no_progress: bool = typer.Option(False, "--no-progress", help="No progress bar on stderr."),
 ) -> None:
     """Run the bundled invented sample site end to end: summary, maps, GIS files, PDF."""
-    from rich.console import Console
-
     from siteexposure import resources
     from siteexposure.atomic import check_writable_dir
     from siteexposure.cli.report_cmd import build_report
     from siteexposure.engine.orchestrator import evaluate_site
     from siteexposure.readers.site_toml import read_site
-    from siteexposure.writers.summary import print_site
+    from siteexposure.writers.summary import make_console, print_site
 
-    console = Console()
+    console = make_console()
     site_path = resources.sample_sites_dir() / DEMO_SITE
     check_writable_dir(out)
     site = read_site(site_path)
