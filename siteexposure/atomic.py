@@ -34,6 +34,9 @@ def atomic_path(target: Path | str) -> Iterator[Path]:
     """
     target = Path(target)
     check_writable_dir(target.parent if str(target.parent) else Path("."))
+    if target.is_dir():
+        raise OutputError(f"output file '{target}': a folder is in the way; expected a file path "
+                          "that can be replaced (remove or rename the folder)")
     fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent)
     os.close(fd)
     tmp = Path(tmp_name)
@@ -42,7 +45,11 @@ def atomic_path(target: Path | str) -> Iterator[Path]:
     os.chmod(tmp, 0o666 & ~umask)  # mkstemp creates 0600; give the file the usual mode
     try:
         yield tmp
-        os.replace(tmp, target)
+        try:
+            os.replace(tmp, target)
+        except OSError as exc:
+            raise OutputError(f"output file '{target}': cannot be written ({exc.strerror}); "
+                              "expected a writable file path") from exc
     except BaseException:
         with contextlib.suppress(OSError):
             tmp.unlink()

@@ -69,12 +69,17 @@ def write_all_outputs(
         The folder cannot be created or written.
     """
     from siteexposure.atomic import check_writable_dir
+    from siteexposure.errors import OutputError
     from siteexposure.writers.geojson import write_geojson
     from siteexposure.writers.grid_csv import write_grid_csv
     from siteexposure.writers.kml import write_kml
     from siteexposure.writers.maps import render_maps
 
     out = check_writable_dir(Path(out_dir))
+    for name in output_names(result.site, formats):
+        if (out / name).is_dir():  # refuse before anything is written
+            raise OutputError(f"output file '{out / name}': a folder is in the way; "
+                              "expected a file path that can be replaced (remove or rename the folder)")
     written = list(render_maps(result, zones, out, formats=formats, progress=progress))
     written.append(write_geojson(result, zones, out / GEOJSON_NAME))
     written.append(write_kml(result, zones, out / KML_NAME))

@@ -699,15 +699,13 @@ def test_no_traceback_reaches_a_terminal(deck):
         assert len(lines) == 1 and lines[0].startswith("Error: "), err
 
 
-@pytest.mark.xfail(strict=True, raises=IsADirectoryError,
-                   reason="siteexposure.atomic.atomic_path lets the OSError of os.replace "
-                   "through (a folder where an output file goes); reported to the owner")
 def test_a_folder_in_place_of_an_output_file_is_one_line(deck):
-    """`map --out DIR` where DIR/site.geojson is a folder: expected one Error line and exit 2;
-    today a traceback (IsADirectoryError from os.replace in atomic_path)."""
+    """`map --out DIR` where DIR/site.geojson is a folder: one Error line, exit 2, and no
+    map file written before the refusal."""
     folder, site = deck
     out = folder / "maps"
     (out / "site.geojson").mkdir(parents=True)
     run = sitegen.run_cli(["map", site, "--out", out, "--no-progress"])
     line = sitegen.assert_one_line_error(run)
     assert "site.geojson" in line
+    assert not list(out.glob("*.png")) and not list(out.glob("*.svg"))
