@@ -132,8 +132,22 @@ class LocalFrame:
         lon_a, lat_a = np.broadcast_arrays(
             np.asarray(lon, dtype=float), np.asarray(lat, dtype=float)
         )
-        east, north = forward.transform(np.ravel(lon_a), np.ravel(lat_a))
+        lo, la = np.ravel(lon_a), np.ravel(lat_a)
+        east, north = (np.asarray(v, dtype=float) for v in forward.transform(lo, la))
+        m_rad, n_rad = self._radii()
+        d_east = np.deg2rad(lo - self.lon) * n_rad * np.cos(np.deg2rad(self.lat))
+        d_north = np.deg2rad(la - self.lat) * m_rad
+        tiny = np.hypot(d_east, d_north) < _TINY_M  # PROJ snaps these onto the centre
+        east = np.where(tiny, d_east, east)
+        north = np.where(tiny, d_north, north)
         return _shaped(east, lon_a.shape), _shaped(north, lon_a.shape)
+
+    def _radii(self) -> tuple[float, float]:
+        """Meridian and prime-vertical radii of curvature of WGS84 at the origin. [m]"""
+        a, f = 6378137.0, 1.0 / 298.257223563  # WGS84 defining constants (NGA TR8350.2)
+        e2 = f * (2.0 - f)
+        w = np.sqrt(1.0 - e2 * np.sin(np.deg2rad(self.lat)) ** 2)
+        return float(a * (1.0 - e2) / w**3), float(a / w)
 
     def to_lonlat(self, east, north):
         """WGS84 longitudes and latitudes of local east/north positions.
@@ -153,8 +167,20 @@ class LocalFrame:
         east_a, north_a = np.broadcast_arrays(
             np.asarray(east, dtype=float), np.asarray(north, dtype=float)
         )
-        lon, lat = inverse.transform(np.ravel(east_a), np.ravel(north_a))
+        e, n = np.ravel(east_a), np.ravel(north_a)
+        lon, lat = (np.asarray(v, dtype=float) for v in inverse.transform(e, n))
+        # PROJ's aeqd inverse snaps points within ~1e-10 earth radii (< 1 mm) of the centre onto
+        # it; there the local linear map (meridian radius M, prime-vertical radius N) is exact
+        # to far below a micrometre.
+        tiny = np.hypot(e, n) < _TINY_M
+        if np.any(tiny):
+            m_rad, n_rad = self._radii()
+            lat = np.where(tiny, self.lat + np.rad2deg(n / m_rad), lat)
+            lon = np.where(tiny, self.lon + np.rad2deg(e / (n_rad * np.cos(np.deg2rad(self.lat)))), lon)
         return _shaped(lon, east_a.shape), _shaped(lat, east_a.shape)
+
+
+_TINY_M = 1e-3  #: below this distance from the origin the inverse uses the local linear map [m]
 
 
 def _shaped(values, shape: tuple[int, ...]):

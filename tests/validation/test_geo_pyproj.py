@@ -175,3 +175,16 @@ def test_import_of_the_module_does_not_load_pyproj():
     code = "import sys, siteexposure.geo; print('pyproj' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False"
+
+
+@pytest.mark.parametrize("lat0", [0.0, 45.0, -70.0, 85.0])
+@pytest.mark.parametrize("east, north", [(1e-5, -2e-5), (9e-4, 0.0), (1.1e-3, 3e-4)])
+def test_sub_millimetre_offsets_survive_the_round_trip(lat0, east, north):
+    """PROJ's aeqd snaps points within ~1e-10 earth radii of the centre onto it; the frame
+    keeps them (local linear map there). Checked against pyproj.Geod.inv to 0.1 um."""
+    frame = LocalFrame(lat0, 10.0)
+    lon, lat = frame.to_lonlat(east, north)
+    e2, n2 = frame.from_lonlat(lon, lat)
+    assert abs(e2 - east) < 1e-9 and abs(n2 - north) < 1e-9
+    _, _, dist = pyproj.Geod(ellps="WGS84").inv(10.0, lat0, lon, lat)
+    assert abs(dist - math.hypot(east, north)) < 1e-7
