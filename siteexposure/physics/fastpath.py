@@ -70,6 +70,7 @@ _TAN_3PI_16 = math.tan(3.0 * math.pi / 16.0)
 _LN10_BY_10 = math.log(10.0) / 10.0
 _INV_180 = 1.0 / 180.0
 _METHOD_CODES = {"additive": 0, "weighted-bilinear": 1}
+_PLANE_TOL = 1e-9  # = synthesis.PLANE_TOLERANCE_DEG (a literal: numba compiles it in)
 _prange = _numba.prange if _numba is not None else range
 
 
@@ -287,8 +288,8 @@ def _bilinear(m, f, el_deg):
         w_a = e_1 * e_2  # both weights without their common factor 1/180
         w_e = d_f * d_b
         g = (w_a * a_val + w_e * e_val) / (w_a + w_e)
-        g = e_val if w_a == 0.0 else g
-        f[8, q] = a_val if w_e == 0.0 else g
+        g = e_val if e_1 < _PLANE_TOL else g  # the tolerance of TablePattern.gain_dbi
+        f[8, q] = a_val if min(d_f, d_b) < _PLANE_TOL else g
 
 
 @_jit(parallel=True, fastmath=False, cache=True)

@@ -28,6 +28,8 @@ from siteexposure.physics.pattern_base import GainPattern, dbi_to_linear, linear
 
 #: Names of the published methods that :class:`TablePattern` offers (the ``method`` argument).
 SYNTHESIS_METHODS = ("additive", "weighted-bilinear")
+#: directions this close to a cut plane take the cut itself (weighted bilinear) [deg]
+PLANE_TOLERANCE_DEG = 1e-9
 
 #: The method used unless another is asked for. Against the far fields of the PyNEC reference
 #: antennas (tests/validation/test_pattern_models.py) the additive rule stays within a few
@@ -412,7 +414,12 @@ class TablePattern:
         den = w_a + w_e
         with np.errstate(invalid="ignore", divide="ignore"):
             g = (w_a * a_val + w_e * e_val) / den
-        return np.where(w_e == 0.0, a_val, np.where(w_a == 0.0, e_val, g))
+        # on a cut plane (within PLANE_TOLERANCE_DEG, far below any data's resolution) the cut
+        # itself: the method is discontinuous where the data's cuts disagree at a crossing,
+        # and a tolerance keeps rounding of the angles from picking a side at random
+        on_v = np.minimum(d_f, d_b) < PLANE_TOLERANCE_DEG
+        on_h = e_1 < PLANE_TOLERANCE_DEG
+        return np.where(on_v, a_val, np.where(on_h, e_val, g))
 
     def gain(self, phi, theta) -> np.ndarray:
         """Numeric power gain relative to isotropic (see :class:`GainPattern`). [1]"""

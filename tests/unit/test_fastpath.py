@@ -312,3 +312,19 @@ def test_reduced_sums_equal_the_engine_column_ratios(monkeypatch, no_numba):
     with pytest.raises(InputError, match="averaging lines"):
         fastpath.reduced_ratio_sums(srcs, pts.reshape(-1, 3)[:-1], w, len(heights),
                                     np.zeros(4, dtype=bool))
+
+
+def test_exactly_behind_an_antenna_at_azimuth_360_agrees_for_weighted_bilinear():
+    """Regression: cuts that disagree at a crossing made the weighted bilinear rule jump there,
+    and an azimuth of 360 deg put rounding on either side; both paths now take the cut within
+    synthesis.PLANE_TOLERANCE_DEG of a cut plane."""
+    from siteexposure.physics import synthesis
+
+    assert fastpath._PLANE_TOL == synthesis.PLANE_TOLERANCE_DEG
+    rng = np.random.default_rng(11)
+    pat = _random_pattern(rng, "weighted-bilinear", 2.0, 1.0)
+    rad = Radiator(np.array([0.7, -4.2, 11.6]), 360.0, 0.0, 0.0, 2e9, 50.0, pat)
+    pts = rad.position_m + np.array([[0.0, -5.0, 0.0], [0.0, 5.0, 0.0], [0.0, 0.0, 3.0]])
+    w = np.array([[1.0]])
+    _assert_same(fastpath.far_field_ratio_sums([rad], pts, w),
+                 fastpath.far_field_ratio_sums_reference([rad], pts, w))
