@@ -17,6 +17,12 @@ from siteexposure.errors import OutputError
 def check_writable_dir(folder: Path) -> Path:
     """Create ``folder`` if needed and check that it can be written; raise OutputError if not."""
     folder = Path(folder)
+    for up in (folder, *folder.parents):
+        if up.exists() and not up.is_dir():
+            raise OutputError(f"output folder '{folder}': '{up}' is a file, not a folder; "
+                              "expected a writable folder")
+        if up.exists():
+            break
     try:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as exc:

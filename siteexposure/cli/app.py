@@ -39,12 +39,30 @@ def _register() -> None:
     from siteexposure.cli import commands  # noqa: F401
 
 
+def _one_line_warnings() -> None:
+    """Print the package's soft problems as one ``Warning: ...`` line on stderr each."""
+    import warnings
+
+    from siteexposure.errors import SiteExposureWarning
+
+    default = warnings.showwarning
+
+    def show(message, category, filename, lineno, file=None, line=None):
+        if issubclass(category, SiteExposureWarning):
+            print(f"Warning: {message}", file=sys.stderr)
+        else:
+            default(message, category, filename, lineno, file, line)
+
+    warnings.showwarning = show
+
+
 def main(argv: list[str] | None = None) -> None:
     """Run the command line and exit with its status (0 done, 1 limit exceeded, 2 error).
 
     typer handles usage errors itself (exit 2); package errors reach this one handler.
     """
     _register()
+    _one_line_warnings()
     args = sys.argv[1:] if argv is None else list(argv)
     _DEBUG["on"] = "--debug" in args
     try:

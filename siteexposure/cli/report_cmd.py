@@ -40,6 +40,9 @@ def check_output_path(out: Path, site) -> Path:
                               "new file name for the report")
     if target.is_dir():
         raise OutputError(f"--out '{out}': is a folder; expected a file name ending in .pdf")
+    parent = out.parent if str(out.parent) else Path(".")
+    if parent.exists() and not parent.is_dir():
+        raise OutputError(f"--out '{out}': its folder '{parent}' is a file; expected a writable folder")
     return out
 
 

@@ -599,11 +599,11 @@ OUTPUT_CASES = [
     ("map-out-is-a-file", ["map", "{site}", "--out", "{dir}/a_file"],
      "Error: --out '{dir}/a_file': is a file; expected a folder for the maps"),
     ("map-out-under-dev-null", ["map", "{site}", "--out", "/dev/null/maps"],
-     "Error: output folder '/dev/null/maps': cannot be created (Not a directory); expected a "
+     "Error: output folder '/dev/null/maps': '/dev/null' is a file, not a folder; expected a "
      "writable folder"),
     ("map-out-under-a-file", ["map", "{site}", "--out", "{dir}/a_file/maps"],
-     "Error: output folder '{dir}/a_file/maps': cannot be created (Not a directory); expected a "
-     "writable folder"),
+     "Error: output folder '{dir}/a_file/maps': '{dir}/a_file' is a file, not a folder; "
+     "expected a writable folder"),
     ("schema-out-is-a-folder", ["schema", "--out", "{dir}/folder.pdf"],
      "Error: --out '{dir}/folder.pdf': is a folder; expected a file name for the schema"),
     ("schema-out-under-dev-null", ["schema", "--out", "/dev/null/schema.json"],
@@ -633,14 +633,13 @@ def test_bad_output_path_writes_nothing(deck, args, message):
 
 @pytest.mark.parametrize("target", ["/dev/null/report.pdf", "{dir}/a_file/report.pdf"])
 def test_report_into_an_unwritable_folder_writes_nothing(deck, target):
-    """The report command finds the folder unusable only when it writes (after the
-    evaluation and the maps), but it still ends in one line and no file."""
+    """The report command refuses an unusable folder before it evaluates: one line, no file."""
     folder, site = deck
     target = target.replace("{dir}", str(folder))
     before = _tree(folder)
     run = sitegen.run_cli(["report", site, "--out", target, "--no-progress"])
     line = sitegen.assert_one_line_error(run)
-    assert line.startswith(f"Error: output folder '{Path(target).parent}'")
+    assert line.startswith(f"Error: --out '{target}': its folder '{Path(target).parent}' is a file")
     assert line.endswith("expected a writable folder")
     assert _tree(folder) == before
 

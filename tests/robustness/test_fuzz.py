@@ -255,7 +255,17 @@ def check_pattern_file(path: Path) -> str:
         gain = np.asarray(pattern.gain(phi, theta), dtype=float)
         assert np.all(np.isfinite(gain)) and np.all(gain >= 0.0)
         peak = 10.0 * math.log10(float(gain.max()))
-        assert peak <= float(pattern.peak_gain_dbi) + 0.5 + 1e-9
+        # the reader holds the stated peak within 0.5 dB of the data's maximum; the additive
+        # rule G = H(phi) + V(theta) - V(0) (3GPP TR 38.901 Table 7.3-1 form) can add the
+        # vertical cut's rise above its horizon value to the horizontal maximum (an
+        # overestimate, on the safe side), so that is the bound to hold
+        vf, vb = np.asarray(pattern.v_front_gain_dbi), np.asarray(pattern.v_back_gain_dbi)
+        vf0 = float(np.interp(0.0, pattern.v_front_elev_deg, vf))
+        vb0 = float(np.interp(0.0, pattern.v_back_elev_deg, vb))
+        data_max = max(float(np.max(pattern.h_gain_dbi)), float(vf.max()), float(vb.max()))
+        rise = max(0.0, float(vf.max()) - vf0, float(vb.max()) - vb0)
+        assert peak <= data_max + rise + 1e-9
+        assert data_max <= float(pattern.peak_gain_dbi) + 0.5 + 1e-9
     return "accepted"
 
 
