@@ -7,8 +7,7 @@ repeats and keeping the best of each:
 
 1. the pattern-aware far-field throughput (source x point pairs per second) through the
    engine's own loop, :func:`siteexposure.engine.evaluate.column_ratios`, with the fused
-   kernel of :mod:`siteexposure.physics.fastpath` behind it: natively if the engine calls
-   it, otherwise with the hook applied in this process only (``fastpath_hook`` says which);
+   kernel of :mod:`siteexposure.physics.fastpath` behind it (``fastpath_hook`` = native);
 2. a bare numpy pass over the same points and sources, chunked the same way, that computes
    only ``K / r^2`` into the ``(n_source, chunk)`` block, written as fast as plain numpy
    goes (one array per coordinate, in-place); ``ratio_vs_bare_numpy`` is (1) over (2), both
@@ -194,80 +193,10 @@ class Engine:
 # -- the fast-path hook -----------------------------------------------------------------------
 
 
-def hooked_column_ratios(sources, columns_en, floor_m, heights_m, weights, reducers, *,
-                         progress=None):
-    """:func:`siteexposure.engine.evaluate.column_ratios` as it reads with the proposed hook:
-    line for line the same loop, its three lines ``densities`` / ``weighted_sums`` / the
-    mean-or-max reduction replaced by one call of
-    :func:`siteexposure.physics.fastpath.reduced_ratio_sums`."""
-    from siteexposure.engine.evaluate import BLOCK_ELEMENTS
-    from siteexposure.physics.fastpath import reduced_ratio_sums
-
-    columns_en = np.asarray(columns_en, dtype=float).reshape(-1, 2)
-    heights = np.asarray(heights_m, dtype=float).ravel()
-    m, k = len(columns_en), len(heights)
-    n_src = max(len(sources), 1)
-    out = np.full((len(reducers), m), np.nan)
-    if m == 0:
-        return out
-    chunk = max(1, BLOCK_ELEMENTS // (n_src * k))
-    is_max = np.array([r == "max" for r in reducers])
-    for start in range(0, m, chunk):
-        cols = columns_en[start : start + chunk]
-        pts = np.empty((len(cols), k, 3))
-        pts[..., :2] = cols[:, None, :]
-        pts[..., 2] = floor_m + heights[None, :]
-        red = reduced_ratio_sums(sources, pts.reshape(-1, 3), weights, k, is_max)
-        out[:, start : start + len(cols)] = red
-        if progress is not None:
-            progress(len(cols))
-    return out
-
-
-def hook_state() -> str:
-    """``native`` if ``column_ratios`` no longer calls ``densities`` (the hook is in the
-    engine), else ``emulated`` (this benchmark applies it in-process)."""
-    from siteexposure.engine import evaluate
-    from siteexposure.physics.radiator import Radiator
-
-    calls = []
-    original = evaluate.densities
-
-    def counting(sources, points):
-        calls.append(1)
-        return original(sources, points)
-
-    from siteexposure.physics.sources import choose_model
-    from siteexposure.physics.synthesis import TablePattern
-
-    pat = TablePattern([0, 180], [0, 0], [-90, 0, 90], [0, 0, 0], [-90, 0, 90], [0, 0, 0],
-                       peak_gain_dbi=0.0)
-    rad = Radiator(np.zeros(3), 0.0, 0.0, 0.0, 1e9, 1.0, pat)
-    src = evaluate.Source("t", rad, choose_model(rad, "far-field"))
-    evaluate.densities = counting
-    try:
-        evaluate.column_ratios([src], np.array([[5.0, 5.0]]), 0.0, np.array([0.0]),
-                               np.ones((1, 1)), ["mean"])
-    finally:
-        evaluate.densities = original
-    return "emulated" if calls else "native"
-
-
 @contextlib.contextmanager
 def fast_engine(state: str):
-    """The engine loop with the fast path: as it is (native), or in this process only with
-    ``column_ratios`` swapped for :func:`hooked_column_ratios` (emulated)."""
-    if state == "native":
-        yield
-        return
-    from siteexposure.engine import evaluate
-
-    original = evaluate.column_ratios
-    evaluate.column_ratios = hooked_column_ratios
-    try:
-        yield
-    finally:
-        evaluate.column_ratios = original
+    """The engine loop as it is: ``column_ratios`` calls the fused kernel itself."""
+    yield
 
 
 @contextlib.contextmanager
@@ -460,7 +389,7 @@ def main(argv=None) -> int:
         log(f"bench: building the invented site ({'quick' if quick else 'full'} sizes)")
         site = build_site(tmp, "far-field", resolution_for(n_main))
         eng = Engine(site)
-        state = hook_state()
+        state = "native"  # the engine's column_ratios calls the fused kernel
         out.update(numba=fastpath.fast_available(), fastpath_hook=state,
                    antennas=len(site.antennas), combos=len(eng.table.combos),
                    far_field_points=eng.n_points)
