@@ -66,53 +66,55 @@ def column_density_reference(rho, za, z_m, moments, wavelength_m) -> np.ndarray:
     return (np.abs(e_rho) ** 2 + np.abs(e_z) ** 2) / (2.0 * ETA0)
 
 
-@_jit(parallel=True, cache=True)
-def _column_kernel(rho, za, z_m, m_re, m_im, k, eta, out):  # pragma: no cover - compiled
-    n_pt = rho.size
-    n_sub = z_m.size
+@_jit(cache=True, inline="always")
+def _column_at(rho, zp, z_m, m_re, m_im, k, eta):  # pragma: no cover - compiled
+    """Density of the column (no element factor) at one point (rho, z); scalar arithmetic."""
     a_r = eta / (2.0 * math.pi)
     a_t = eta * k / (4.0 * math.pi)
-    for p in _prange(n_pt):
-        rp = rho[p]
-        zp = za[p]
-        er_re = 0.0
-        er_im = 0.0
-        ez_re = 0.0
-        ez_im = 0.0
-        for n in range(n_sub):
-            dz = zp - z_m[n]
-            rr = math.sqrt(rp * rp + dz * dz)
-            c = dz / rr
-            s = rp / rr
-            kr = k * rr
-            cph = math.cos(kr)
-            sph = -math.sin(kr)  # exp(-j kr) = cph + j sph
-            ikr = 1.0 / kr
-            # E_r / p = a_r c / R^2 (1 - j/kr) e^{-jkr}
-            fr = a_r * c / (rr * rr)
-            r_re = fr * (cph + ikr * sph)
-            r_im = fr * (sph - ikr * cph)
-            # E_t / p = j a_t s / R (1 - ikr^2 - j ikr) e^{-jkr}
-            ft = a_t * s / rr
-            q_re = 1.0 - ikr * ikr
-            q_im = -ikr
-            # (q_re + j q_im) e^{-jkr}, then times j
-            u_re = q_re * cph - q_im * sph
-            u_im = q_re * sph + q_im * cph
-            t_re = -ft * u_im
-            t_im = ft * u_re
-            # contributions to E_rho and E_z per unit moment
-            gr_re = r_re * s + t_re * c
-            gr_im = r_im * s + t_im * c
-            gz_re = r_re * c - t_re * s
-            gz_im = r_im * c - t_im * s
-            mr = m_re[n]
-            mi = m_im[n]
-            er_re += mr * gr_re - mi * gr_im
-            er_im += mr * gr_im + mi * gr_re
-            ez_re += mr * gz_re - mi * gz_im
-            ez_im += mr * gz_im + mi * gz_re
-        out[p] = (er_re * er_re + er_im * er_im + ez_re * ez_re + ez_im * ez_im) / (2.0 * eta)
+    inv_k = 1.0 / k
+    er_re = 0.0
+    er_im = 0.0
+    ez_re = 0.0
+    ez_im = 0.0
+    for n in range(z_m.size):
+        dz = zp - z_m[n]
+        rr = math.sqrt(rho * rho + dz * dz)
+        inv = 1.0 / rr
+        cs = dz * inv
+        sn = rho * inv
+        kr = k * rr
+        cph = math.cos(kr)
+        sph = -math.sin(kr)  # exp(-j kr) = cph + j sph
+        ikr = inv * inv_k  # 1 / kr
+        # E_r / p = a_r c / R^2 (1 - j/kr) e^{-jkr}
+        fr = a_r * cs * inv * inv
+        r_re = fr * (cph + ikr * sph)
+        r_im = fr * (sph - ikr * cph)
+        # E_t / p = j a_t s / R (1 - 1/kr^2 - j/kr) e^{-jkr}
+        ft = a_t * sn * inv
+        q_re = 1.0 - ikr * ikr
+        u_re = q_re * cph + ikr * sph
+        u_im = q_re * sph - ikr * cph
+        t_re = -ft * u_im
+        t_im = ft * u_re
+        # contributions to E_rho and E_z per unit moment, times the moment
+        gr_re = r_re * sn + t_re * cs
+        gr_im = r_im * sn + t_im * cs
+        gz_re = r_re * cs - t_re * sn
+        gz_im = r_im * cs - t_im * sn
+        mr = m_re[n]
+        mi = m_im[n]
+        er_re += mr * gr_re - mi * gr_im
+        er_im += mr * gr_im + mi * gr_re
+        ez_re += mr * gz_re - mi * gz_im
+        ez_im += mr * gz_im + mi * gz_re
+    return (er_re * er_re + er_im * er_im + ez_re * ez_re + ez_im * ez_im) / (2.0 * eta)
+
+
+@_jit(parallel=True, cache=True)
+def _column_kernel(rho, za, z_m, m_re, m_im, k, eta, out):  # pragma: no cover - compiled
+    for p in _prange(rho.size):
+        out[p] = _column_at(rho[p], za[p], z_m, m_re, m_im, k, eta)
 
 
 def column_density(rho, za, z_m, moments, wavelength_m) -> np.ndarray:
@@ -142,9 +144,6 @@ def _fused_kernel(xa, ya, za, z_m, m_re, m_im, k, eta, near_t, far_t, corr, r_ff
     z_lo = z_m[0]
     z_hi = z_m[n_sub - 1]
     r2d = 180.0 / math.pi
-    a_r = eta / (2.0 * math.pi)
-    a_t = eta * k / (4.0 * math.pi)
-    inv_k = 1.0 / k
     for p in _prange(n_pt):
         x = xa[p]
         y = ya[p]
@@ -188,42 +187,7 @@ def _fused_kernel(xa, ya, za, z_m, m_re, m_im, k, eta, near_t, far_t, corr, r_ff
             e = near
         else:
             e = near * (far * c / near) ** beta
-        # coherent sum over the column
-        er_re = 0.0
-        er_im = 0.0
-        ez_re = 0.0
-        ez_im = 0.0
-        for n in range(n_sub):
-            dz = zp - z_m[n]
-            rr = math.sqrt(rho * rho + dz * dz)
-            inv = 1.0 / rr
-            cs = dz * inv
-            sn = rho * inv
-            kr = k * rr
-            cph = math.cos(kr)
-            sph = -math.sin(kr)
-            ikr = inv * inv_k
-            fr = a_r * cs * inv * inv
-            r_re = fr * (cph + ikr * sph)
-            r_im = fr * (sph - ikr * cph)
-            ft = a_t * sn * inv
-            q_re = 1.0 - ikr * ikr
-            u_re = q_re * cph + ikr * sph
-            u_im = q_re * sph - ikr * cph
-            t_re = -ft * u_im
-            t_im = ft * u_re
-            gr_re = r_re * sn + t_re * cs
-            gr_im = r_im * sn + t_im * cs
-            gz_re = r_re * cs - t_re * sn
-            gz_im = r_im * cs - t_im * sn
-            mr = m_re[n]
-            mi = m_im[n]
-            er_re += mr * gr_re - mi * gr_im
-            er_im += mr * gr_im + mi * gr_re
-            ez_re += mr * gz_re - mi * gz_im
-            ez_im += mr * gz_im + mi * gz_re
-        dens = (er_re * er_re + er_im * er_im + ez_re * ez_re + ez_im * ez_im) / (2.0 * eta)
-        s_out[p] = dens * e * refl
+        s_out[p] = _column_at(rho, zp, z_m, m_re, m_im, k, eta) * e * refl
 
 
 def fused_power_density(model, xa, ya, za) -> tuple[np.ndarray, np.ndarray]:
