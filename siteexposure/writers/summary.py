@@ -57,7 +57,7 @@ def print_site(res: SiteResult, console) -> None:
             t.add_row(ar.area.name, ar.area.access, "-", "-", "-", "-", "-", "not evaluated (no access)")
             continue
         for s in ar.summaries:
-            at = "-" if s.at_m is None else f"{s.at_m[0]:.1f}, {s.at_m[1]:.1f}, {s.at_m[2]:.1f}"
+            at = "-" if s.at_m is None else f"{s.at_m[0]:.2f}, {s.at_m[1]:.2f}, {s.at_m[2]:.2f}"
             note = s.verdict
             if s.n_not_assessable:
                 note += f" ({s.n_not_assessable} pts in reactive near field)"
