@@ -19,10 +19,15 @@ repeats and keeping the best of each:
    (``fast_vs_plain_max_rel_diff``, with the count of differing NaN flags);
 4. the array-synthesis throughput per sub-source (source x sub-source x point per second)
    through the same loop, and its ratio to (2);
-5. the peak memory of the engine loop at about 1 M and 4 M points (tracemalloc peak of the
-   numpy allocations made during the call, which includes the result array of
-   ``n_combo x n_column`` values; numba's own scratch rows are not traced and are a few
-   ten kilobytes per thread) and the process's RSS high-water mark (ru_maxrss);
+5. the peak memory at about 1 M and 4 M points: the high-water mark of the resident set
+   (``ru_maxrss``) of a fresh process that builds the same site at that grid and screens it
+   (:func:`siteexposure.engine.orchestrator.evaluate_site`: grid, every source, every limit
+   set, contributions, keep-out distances, mitigation), everything a screening run holds
+   included -- interpreter, libraries, numba's compiled code, the grids and results;
+   ``memory_ratio_4m_vs_1m`` is their ratio and ``memory_growth_bytes_per_point`` what each
+   further point adds. Beside it, inside this process, the tracemalloc peak of the numpy
+   allocations of one engine loop (``engine_traced_*``), split into the result array
+   (``n_combo x n_column`` values, growing with the grid) and the working memory (flat);
 6. the demo site's run: screen (``evaluate_site``), zones, maps and GIS files
    (``write_all_outputs``) and the PDF report (``write_report``), stage by stage.
 
@@ -291,6 +296,31 @@ def rss_mb() -> float:
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
 
 
+def screen_memory_child(points: float) -> int:
+    """In a fresh process: screen the invented site at about ``points`` points and print
+    ``{"points", "rss_mb", "screen_s"}`` as JSON (see ``--memory-child``)."""
+    from siteexposure.engine.orchestrator import evaluate_site
+
+    with tempfile.TemporaryDirectory(prefix="siteexposure-bench-mem-") as tmp:
+        site = build_site(Path(tmp), "far-field", resolution_for(points))
+        eng = Engine(site)
+        t = time.perf_counter()
+        evaluate_site(site)
+        dt = time.perf_counter() - t
+    print(json.dumps({"points": eng.n_points, "rss_mb": rss_mb(), "screen_s": dt}))
+    return 0
+
+
+def screen_memory(points: float) -> dict:
+    """Peak resident memory of a fresh process screening the site at ``points`` points."""
+    import subprocess
+
+    env = dict(os.environ)
+    cmd = [sys.executable, str(Path(__file__).resolve()), "--memory-child", repr(points)]
+    done = subprocess.run(cmd, capture_output=True, text=True, env=env, check=True)
+    return json.loads(done.stdout.strip().splitlines()[-1])
+
+
 def demo_run(quick: bool, out_dir: Path) -> tuple[float | None, dict, list[str]]:
     """Time the demo's stages; a stage whose module is not there is skipped with a note."""
     import importlib.util
@@ -371,7 +401,11 @@ def main(argv=None) -> int:
     ap.add_argument("--json", action="store_true", help="print one JSON object on stdout")
     ap.add_argument("--quick", action="store_true", help="smaller sizes, fewer repeats")
     ap.add_argument("--repeats", type=int, default=None, help="rounds per timing (best kept)")
+    ap.add_argument("--memory-child", type=float, default=None, metavar="POINTS",
+                    help=argparse.SUPPRESS)  # internal: one screening run in a fresh process
     args = ap.parse_args(argv)
+    if args.memory_child is not None:
+        return screen_memory_child(args.memory_child)
     quick = args.quick
     repeats = args.repeats or (2 if quick else 5)
     n_main, n_mem = (3e5, (2.5e5, 1e6)) if quick else (1.05e6, (1.05e6, 4.2e6))
@@ -399,24 +433,37 @@ def main(argv=None) -> int:
             eng.run(eng.cols[:64])
         out["jit_compile_s"] = time.perf_counter() - t
         log(f"bench: warm-up {out['jit_compile_s']:.1f} s (numba compile or cache load)")
-        # memory at two sizes
+        # memory at two sizes: a screening run in a fresh process each, then the engine loop
+        # traced in this one
+        log(f"bench: peak memory of screening runs at {n_mem[0]:,.0f} and {n_mem[1]:,.0f} "
+            "points (one fresh process each)")
+        child = [screen_memory(n) for n in n_mem]
         mem = []
         for n in n_mem:
             e = Engine(replace(site, resolution_m=resolution_for(n)))
-            log(f"bench: peak memory at {e.n_points:,} points")
+            log(f"bench: traced engine loop at {e.n_points:,} points")
             mem.append((e.n_points, *peak_memory(e, state)))
             del e
         work = [m[1] - m[2] for m in mem]
-        out.update(memory_points=[m[0] for m in mem], peak_memory_1m_mb=mem[0][1],
-                   peak_memory_4m_mb=mem[1][1], memory_ratio_4m_vs_1m=mem[1][1] / mem[0][1],
+        out.update(memory_points=[c["points"] for c in child],
+                   peak_memory_1m_mb=child[0]["rss_mb"], peak_memory_4m_mb=child[1]["rss_mb"],
+                   memory_ratio_4m_vs_1m=child[1]["rss_mb"] / child[0]["rss_mb"],
+                   memory_growth_bytes_per_point=(child[1]["rss_mb"] - child[0]["rss_mb"])
+                   * 2**20 / (child[1]["points"] - child[0]["points"]),
+                   screen_s=[c["screen_s"] for c in child],
+                   engine_traced_points=[m[0] for m in mem],
+                   engine_traced_peak_mb=[m[1] for m in mem],
+                   engine_traced_ratio_4m_vs_1m=mem[1][1] / mem[0][1],
                    result_memory_mb=[m[2] for m in mem], working_memory_mb=work,
                    working_memory_ratio_4m_vs_1m=work[1] / work[0], rss_high_water_mb=rss_mb(),
-                   memory_method="peak_memory_*: tracemalloc peak of the numpy allocations made "
-                                 "during one engine pass over the grid, its result array "
-                                 "(n_combo x n_column values, growing with the grid) included; "
-                                 "working_memory_*: the same less the result; numba's scratch "
-                                 "rows are not traced (a few 10 kB per thread); "
-                                 "rss_high_water_mb: ru_maxrss of the whole process")
+                   memory_method="peak_memory_*: ru_maxrss of a fresh process that builds the "
+                                 "site and screens it (evaluate_site) at that grid, everything "
+                                 "it holds included; engine_traced_*: tracemalloc peak of the "
+                                 "numpy allocations of one engine loop in this process, its "
+                                 "result array (n_combo x n_column values, growing with the "
+                                 "grid) included; working_memory_*: the same less the result; "
+                                 "numba's scratch rows are not traced (a few 10 kB per thread); "
+                                 "rss_high_water_mb: ru_maxrss of this process")
         # far field vs bare numpy, interleaved
         log(f"bench: far field vs bare numpy, {eng.n_points:,} points x "
             f"{len(eng.sources)} sources, best of {repeats}")
@@ -527,9 +574,16 @@ def print_human(out: dict) -> None:
                                                    "flags differ)"),
         ("array synthesis sub-source pairs/s", fmt(out["array_pairs_per_s"])),
         ("array_ratio_vs_bare_numpy", fmt(out["array_ratio_vs_bare_numpy"])),
-        (f"peak memory at {out['memory_points'][0]:,} points", fmt(out["peak_memory_1m_mb"], " MB")),
-        (f"peak memory at {out['memory_points'][1]:,} points", fmt(out["peak_memory_4m_mb"], " MB")),
+        (f"peak memory, screening {out['memory_points'][0]:,} points",
+         fmt(out["peak_memory_1m_mb"], " MB")),
+        (f"peak memory, screening {out['memory_points'][1]:,} points",
+         fmt(out["peak_memory_4m_mb"], " MB")),
         ("memory ratio", fmt(out["memory_ratio_4m_vs_1m"])),
+        ("memory added per further point", fmt(out["memory_growth_bytes_per_point"], " B")),
+        ("engine loop traced: peak at both sizes", " / ".join(
+            fmt(v, " MB") for v in out["engine_traced_peak_mb"])),
+        ("engine loop traced: working memory at both", " / ".join(
+            fmt(v, " MB") for v in out["working_memory_mb"])),
         ("demo run", fmt(out["demo_run_s"], " s")),
         ("JIT warm-up", fmt(out["jit_compile_s"], " s")),
     )

@@ -469,11 +469,11 @@ class ArraySynthesis:
         shape = pts.shape[:-1]
         d = pts.reshape(-1, 3) - self.position_m
         xa, ya, za = to_antenna_frame(d, self.azimuth_deg, self.mechanical_tilt_deg)
-        from siteexposure.physics.array_kernel import fast_available, fused_power_density
+        from siteexposure.physics.array_kernel import fused_power_density
 
-        if fast_available() and self.power_w > 0:
-            s, ok = fused_power_density(self, xa, ya, za)
-            return s.reshape(shape), ok.reshape(shape)
+        fused = fused_power_density(self, xa, ya, za) if self.power_w > 0 else None
+        if fused is not None:
+            return fused[0].reshape(shape), fused[1].reshape(shape)
         r, phi, theta = antenna_angles(xa, ya, za)
         rho = np.hypot(xa, ya)
         z_near = np.clip(za, self.z_m[0], self.z_m[-1])

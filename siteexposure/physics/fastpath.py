@@ -6,7 +6,8 @@ point ``p``, with the far-field densities ``S_i = P G(phi, theta) F / (4 pi r^2)
 ``(n_source, n_point)`` block of densities and multiplies it by ``W``. Here:
 
 * :func:`far_field_ratio_sums` -- the same quantity from a fused kernel compiled with numba
-  (``njit(parallel=True, fastmath=False, cache=True)``) when numba imports and
+  (``njit(parallel=True, fastmath={"contract"}, cache=True)``: fused multiply-adds only, no
+  reassociation, NaN and infinities kept) when numba imports and
   ``SITEEXPOSURE_NO_NUMBA`` is unset (read at every call), else from
   :func:`far_field_ratio_sums_reference`, the plain numpy reference (the package's own model,
   source by source, added into ``R``);
@@ -292,7 +293,7 @@ def _bilinear(m, f, el_deg):
         f[8, q] = a_val if min(d_f, d_b) < _PLANE_TOL else g
 
 
-@_jit(parallel=True, fastmath=False, cache=True)
+@_jit(parallel=True, fastmath={"contract"}, cache=True)
 def _ratio_kernel(pts, pos, axes, kfac, r2_min, method, gfloor, vf0, vb0, h_node, h_slope,
                   h_off, h_n, vf_node, vf_slope, vb_node, vb_slope, v_off, v_n,
                   exp_table, exp_k0, weights, group, is_max, lines, out):

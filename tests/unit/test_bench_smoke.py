@@ -20,7 +20,8 @@ NUMERIC = (
     "ratio_vs_bare_numpy", "far_field_pairs_per_s", "bare_pairs_per_s",
     "engine_numpy_pairs_per_s", "peak_memory_1m_mb", "peak_memory_4m_mb",
     "memory_ratio_4m_vs_1m", "working_memory_ratio_4m_vs_1m", "jit_compile_s",
-    "fast_vs_plain_max_rel_diff",
+    "fast_vs_plain_max_rel_diff", "memory_growth_bytes_per_point",
+    "engine_traced_ratio_4m_vs_1m",
 )
 
 
