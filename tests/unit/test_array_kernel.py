@@ -109,3 +109,50 @@ def test_phases_beyond_the_compiled_range_take_the_reference():
     assert not ak.phase_in_range(2 * np.pi / lam, 2.0e6)
     assert np.array_equal(ak.column_density(rho, za, z, m, lam),
                           ak.column_density_reference(rho, za, z, m, lam))
+
+
+def test_array_model_works_when_numba_cannot_be_imported():
+    """A fresh interpreter in which ``import numba`` fails: the array model still gives this
+    process's numbers (compiled here when numba is installed) to 1e-9."""
+    import json
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    code = """
+import sys, json
+sys.modules["numba"] = None  # makes `import numba` raise ImportError
+import numpy as np
+from pathlib import Path
+from siteexposure.physics import array_kernel as ak
+from siteexposure.physics.array import ArraySynthesis
+from siteexposure.physics.radiator import Radiator
+from siteexposure.readers.pattern_csv import read_pattern_csv
+assert not ak.fast_available()
+pat = read_pattern_csv(Path(sys.argv[1]))
+rad = Radiator(position_m=np.array([0.0, 0.0, 10.0]), azimuth_deg=80.0, mechanical_tilt_deg=2.0,
+               electrical_tilt_deg=pat.electrical_tilt_deg, frequency_hz=1900e6, power_w=40.0,
+               pattern=pat, aperture_height_m=1.04, reflection_factor=1.0)
+pts = rad.position_m + np.random.default_rng(4).normal(size=(400, 3)) * 5
+s, ok = ArraySynthesis.from_radiator(rad).power_density(pts)
+print(json.dumps([None if not o else float(v) for v, o in zip(s, ok)]))
+"""
+    csv = Path(__file__).resolve().parents[1] / "data" / "nec" / "panel_tilt6.csv"
+    run = subprocess.run([sys.executable, "-c", code, str(csv)], capture_output=True, text=True,
+                         timeout=300)
+    assert run.returncode == 0, run.stderr[-2000:]
+    got = json.loads(run.stdout.strip().splitlines()[-1])
+
+    from siteexposure.physics.array import ArraySynthesis
+    from siteexposure.physics.radiator import Radiator
+    from siteexposure.readers.pattern_csv import read_pattern_csv
+
+    pat = read_pattern_csv(csv)
+    rad = Radiator(position_m=np.array([0.0, 0.0, 10.0]), azimuth_deg=80.0, mechanical_tilt_deg=2.0,
+                   electrical_tilt_deg=pat.electrical_tilt_deg, frequency_hz=1900e6, power_w=40.0,
+                   pattern=pat, aperture_height_m=1.04, reflection_factor=1.0)
+    pts = rad.position_m + np.random.default_rng(4).normal(size=(400, 3)) * 5
+    s, ok = ArraySynthesis.from_radiator(rad).power_density(pts)
+    assert [v is not None for v in got] == list(ok)
+    sub = np.array([v for v in got if v is not None])
+    assert sub.size > 100 and np.allclose(sub, s[ok], rtol=1e-9, atol=0)
