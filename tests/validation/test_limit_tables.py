@@ -9,8 +9,12 @@ Provenance of the expected values (also in each row's ``checked``):
 
 * 47 CFR §1.1310 Table 1: compared with the rule text as revised Oct 1, 2009 (retrieved copy).
 * ICNIRP 2020 Table 6: compared with a textbook reproduction of the table (retrieved copy).
-* ICNIRP 2020 Table 5, ICNIRP 1998 Tables 6/7, IEEE Std C95.1-2019 whole-body ERLs, Safety
-  Code 6 (2015) Tables 5/6: "from memory" (no copy of the tables could be retrieved).
+* ICNIRP 1998 Table 7 (general public): compared with Council Recommendation 1999/519/EC
+  Annex III as reprinted in French decree no. 2002-775 of 3 May 2002, Annex 2.2 A (retrieved
+  copy); every value agreed.
+* ICNIRP 2020 Table 5, ICNIRP 1998 Table 6 (occupational), IEEE Std C95.1-2019 whole-body
+  ERLs, Safety Code 6 (2015) Tables 5/6: "from memory" (no copy of the tables could be
+  retrieved; partial secondary support for ICNIRP 1998 Table 6 is named in its data file).
 """
 
 from __future__ import annotations
@@ -29,6 +33,9 @@ from siteexposure.readers.limit_tables import available_sets, load_limit_set
 MW_CM2 = 10.0  # W/m² in 1 mW/cm² (47 CFR 1.1310 prints mW/cm²; common practice)
 CFR = "retrieved copy: 47 CFR 1.1310 Table 1 text as revised Oct 1 2009"
 ICNIRP6 = "retrieved copy: textbook reproduction of ICNIRP 2020 Table 6"
+# ICNIRP 1998 Table 7 as reprinted by Council Recommendation 1999/519/EC Annex III, in the
+# text of French decree no. 2002-775 of 3 May 2002, Annex section 2.2 A ("Niveaux des champs").
+REC519 = "retrieved copy: 1999/519/EC Annex III in French decree 2002-775, Annex 2.2 A"
 MEMORY = "from memory"
 
 F = Callable[[float], float]
@@ -140,28 +147,37 @@ def avg98(f: float) -> float:
     return 6.0 if f <= 10000 else 68 / (f / 1000) ** 1.05
 
 
-def icnirp98(pop, lo, hi, first, e, h, s, src):
-    return Row("icnirp-1998", pop, WB, lo, hi, first, True, src, MEMORY, e, h, s, None, avg98)
+def icnirp98(pop, lo, hi, first, e, h, s, src, checked):
+    return Row("icnirp-1998", pop, WB, lo, hi, first, True, src, checked, e, h, s, None, avg98)
 
 
 ICNIRP1998_ROWS = [
     # ICNIRP 1998 Table 6, occupational (from 100 kHz; 2-300 GHz row split at 10 GHz).
-    icnirp98(OCC, 0.1, 1, True, const(610), lambda f: 1.6 / f, None, "T6 0.065-1 MHz"),
-    icnirp98(OCC, 1, 10, False, lambda f: 610 / f, lambda f: 1.6 / f, None, "T6 1-10 MHz"),
-    icnirp98(OCC, 10, 400, False, const(61), const(0.16), const(10), "T6 10-400 MHz"),
+    # From memory (no copy of Table 6 retrieved).
+    icnirp98(OCC, 0.1, 1, True, const(610), lambda f: 1.6 / f, None, "T6 0.065-1 MHz", MEMORY),
+    icnirp98(OCC, 1, 10, False, lambda f: 610 / f, lambda f: 1.6 / f, None, "T6 1-10 MHz",
+             MEMORY),
+    icnirp98(OCC, 10, 400, False, const(61), const(0.16), const(10), "T6 10-400 MHz", MEMORY),
     icnirp98(OCC, 400, 2000, False, lambda f: 3 * f**0.5, lambda f: 0.008 * f**0.5,
-             lambda f: f / 40, "T6 400-2000 MHz"),
-    icnirp98(OCC, 2000, 10000, False, const(137), const(0.36), const(50), "T6 2-300 GHz"),
-    icnirp98(OCC, 10000, 300000, False, const(137), const(0.36), const(50), "T6 2-300 GHz"),
-    # ICNIRP 1998 Table 7, general public.
-    icnirp98(GEN, 0.1, 0.15, True, const(87), const(5), None, "T7 0.003-0.15 MHz"),
-    icnirp98(GEN, 0.15, 1, False, const(87), lambda f: 0.73 / f, None, "T7 0.15-1 MHz"),
-    icnirp98(GEN, 1, 10, False, lambda f: 87 / f**0.5, lambda f: 0.73 / f, None, "T7 1-10 MHz"),
-    icnirp98(GEN, 10, 400, False, const(28), const(0.073), const(2), "T7 10-400 MHz"),
+             lambda f: f / 40, "T6 400-2000 MHz", MEMORY),
+    icnirp98(OCC, 2000, 10000, False, const(137), const(0.36), const(50), "T6 2-300 GHz",
+             MEMORY),
+    icnirp98(OCC, 10000, 300000, False, const(137), const(0.36), const(50), "T6 2-300 GHz",
+             MEMORY),
+    # ICNIRP 1998 Table 7, general public, in the retrieved copy's own rows ("3-150 kHz" 87 V/m,
+    # 5 A/m; "0,15-1 MHz" 87, 0,73/f; "1-10 MHz" 87/f^1/2, 0,73/f; "10-400 MHz" 28, 0,073, 2;
+    # "400-2 000 MHz" 1,375 f^1/2, 0,003 7 f^1/2, f/200; "2-300 GHz" 61, 0,16, 10; notes 2-3:
+    # 6 min from 100 kHz to 10 GHz, 68/f^1.05 min above 10 GHz with f in GHz). Source: REC519.
+    icnirp98(GEN, 0.1, 0.15, True, const(87), const(5), None, "T7 3-150 kHz", REC519),
+    icnirp98(GEN, 0.15, 1, False, const(87), lambda f: 0.73 / f, None, "T7 0.15-1 MHz", REC519),
+    icnirp98(GEN, 1, 10, False, lambda f: 87 / f**0.5, lambda f: 0.73 / f, None, "T7 1-10 MHz",
+             REC519),
+    icnirp98(GEN, 10, 400, False, const(28), const(0.073), const(2), "T7 10-400 MHz", REC519),
     icnirp98(GEN, 400, 2000, False, lambda f: 1.375 * f**0.5, lambda f: 0.0037 * f**0.5,
-             lambda f: f / 200, "T7 400-2000 MHz"),
-    icnirp98(GEN, 2000, 10000, False, const(61), const(0.16), const(10), "T7 2-300 GHz"),
-    icnirp98(GEN, 10000, 300000, False, const(61), const(0.16), const(10), "T7 2-300 GHz"),
+             lambda f: f / 200, "T7 400-2000 MHz", REC519),
+    icnirp98(GEN, 2000, 10000, False, const(61), const(0.16), const(10), "T7 2-300 GHz", REC519),
+    icnirp98(GEN, 10000, 300000, False, const(61), const(0.16), const(10), "T7 2-300 GHz",
+             REC519),
 ]
 
 
@@ -353,14 +369,23 @@ CONTINUITY = [
     ("ieee-c95.1-2019", GEN, WB, 3, "averaging_min", 1e-12, "unrestricted 1.34-3 / 3-30"),
     ("ieee-c95.1-2019", OCC, WB, 1.0, "s_w_m2", 1e-12, "restricted 0.1-1.0 / 1.0-30"),
     ("ieee-c95.1-2019", OCC, WB, 30, "e_v_m", 1e-12, "restricted 1.0-30 / 30-100"),
-    # ICNIRP 1998 (from memory): S continuous at 400 and 2000 MHz in both tables.
+    # ICNIRP 1998 Table 7 (REC519 copy): S continuous at 400 and 2000 MHz (2 = 400/200,
+    # f/200 = 10 at 2000 MHz); E 87 = 87/1^1/2 at 1 MHz; H 0.73/f on both sides of 1 MHz; E
+    # 87/10^1/2 = 27.5 vs 28 at 10 MHz, 28 vs 1.375*400^1/2 = 27.5 at 400 MHz, H 0.073 vs
+    # 0.0037*400^1/2 = 0.074 at 400 MHz, each to the printed digits only.
     ("icnirp-1998", GEN, WB, 400, "s_w_m2", 1e-12, "T7 10-400 / 400-2000"),
     ("icnirp-1998", GEN, WB, 2000, "s_w_m2", 1e-12, "T7 400-2000 / 2-300 GHz"),
+    ("icnirp-1998", GEN, WB, 1, "e_v_m", 1e-12, "T7 0.15-1 / 1-10 MHz"),
+    ("icnirp-1998", GEN, WB, 1, "h_a_m", 1e-12, "T7 0.15-1 / 1-10 MHz"),
+    ("icnirp-1998", GEN, WB, 10, "e_v_m", 2.5e-2, "T7 1-10 / 10-400 MHz"),
+    ("icnirp-1998", GEN, WB, 400, "e_v_m", 2e-2, "T7 10-400 / 400-2000"),
+    ("icnirp-1998", GEN, WB, 400, "h_a_m", 1.5e-2, "T7 10-400 / 400-2000"),
+    ("icnirp-1998", GEN, WB, 10000, "averaging_min", 1e-2, "T7 6 min / 68/f_G^1.05"),
+    # ICNIRP 1998 Table 6 (from memory): the same continuity in the occupational rows.
     ("icnirp-1998", OCC, WB, 400, "s_w_m2", 1e-12, "T6 10-400 / 400-2000"),
     ("icnirp-1998", OCC, WB, 2000, "s_w_m2", 1e-12, "T6 400-2000 / 2-300 GHz"),
     ("icnirp-1998", OCC, WB, 1, "e_v_m", 1e-12, "T6 0.065-1 / 1-10 MHz"),
     ("icnirp-1998", OCC, WB, 10, "e_v_m", 1e-12, "T6 1-10 / 10-400 MHz"),
-    ("icnirp-1998", GEN, WB, 10000, "averaging_min", 1e-2, "T7 6 min / 68/f_G^1.05"),
 ]
 
 
@@ -405,7 +430,7 @@ PLANE_WAVE_PAIRS = [
     ("fcc-1310", GEN, 1, 614, 1.63, 1000, 0.0, CFR + " T1(B) 0.3-1.34"),
     ("icnirp-1998", OCC, 100, 61, 0.16, 10, 0.0, "T6 10-400 (from memory)"),
     ("icnirp-1998", OCC, 5000, 137, 0.36, 50, 0.0, "T6 2-300 GHz (from memory)"),
-    ("icnirp-1998", GEN, 5000, 61, 0.16, 10, 0.0, "T7 2-300 GHz (from memory)"),
+    ("icnirp-1998", GEN, 5000, 61, 0.16, 10, 0.0, REC519 + " T7 2-300 GHz"),
     ("icnirp-2020", OCC, 100, 61, 0.16, 10, 0.0, "T5 occ >30-400 (from memory)"),
     ("hc-sc6-2015", GEN, 15, 27.46, 0.0728, 2, 1e-3, "T5 10-20 (from memory)"),
     ("hc-sc6-2015", GEN, 100, 22.06, 0.05852, 1.291, 1e-3, "T5 48-300 (from memory)"),
@@ -437,7 +462,8 @@ def test_plane_wave_pairs_agree_to_the_printed_digits(pair) -> None:
 
 
 def test_icnirp_1998_general_public_28_v_m_is_kept_as_printed() -> None:
-    """ICNIRP 1998 Table 7, 10-400 MHz (from memory): the table prints 28 V/m beside 2 W/m²,
+    """ICNIRP 1998 Table 7, 10-400 MHz (REC519: 1999/519/EC Annex III in French decree
+    2002-775, Annex 2.2 A, prints "10-400 MHz | 28 | 0,073 | 0,092 | 2"): 28 V/m beside 2 W/m²,
     whose plane-wave E is 27.45 V/m. The file keeps the printed 28 and exposure ratios use S."""
     ls = load_limit_set("icnirp-1998")
     v = ls.evaluate(100.0, "general")
@@ -447,8 +473,9 @@ def test_icnirp_1998_general_public_28_v_m_is_kept_as_printed() -> None:
 
 
 def test_icnirp_2020_whole_body_equals_1998_where_the_publications_agree() -> None:
-    """ICNIRP 2020 Table 5 and ICNIRP 1998 Tables 6/7 (both from memory) print the same S from
-    30 MHz to 300 GHz and the same E and H formulas from 400 to 2000 MHz."""
+    """ICNIRP 2020 Table 5 (from memory) and ICNIRP 1998 Tables 6/7 (Table 7 compared with
+    REC519, Table 6 from memory) print the same S from 30 MHz to 300 GHz and the same E and H
+    formulas from 400 to 2000 MHz. Only the 1998 general-public side is a retrieved copy."""
     new, old = load_limit_set("icnirp-2020"), load_limit_set("icnirp-1998")
     f = np.geomspace(30.0001, 300000.0, 400)
     mid = np.geomspace(400.0001, 2000.0, 50)
