@@ -25,10 +25,10 @@ Element pattern (design and justification)
   aperture height.
 * Null fill: the real taper then gets a quadratic phase across the aperture,
   ``A_n exp(-j q (2 z_n / H)^2)``, with ``q >= 0`` fitted to the cut
-  (:func:`_fit_quadratic_phase`): it reproduces the finite null depth of a real column's
-  cut and, with the sign of the near-field (Fresnel) phase term, makes filled nulls fill
-  further towards the antenna as a real column's do. Where the cut does not call for it
-  (a ridge term in the fit), ``q = 0``.
+  (:func:`_fit_quadratic_phase`), for cuts with nulls: it lets the nulls be finite, as a
+  real column's are, and, with the sign of the near-field (Fresnel) phase term, sets how
+  fast they fill in towards the antenna. Where the cut does not call for it (a ridge term
+  in the fit), and for cuts without nulls, ``q = 0``.
 * Azimuth shape: an element power factor common to all sub-sources, evaluated at the
   direction of the point from the radiation centre (:func:`_element_table`). Close in it
   is ``e_near``: the horizontal cut relative to boresight combined with the back/front

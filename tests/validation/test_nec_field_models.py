@@ -101,8 +101,8 @@ def test_auto_not_assessable_only_inside_the_reactive_radius(auto_errors):
 def test_far_field_region_within_half_a_db(auto_errors, name):
     """Issue 3 far-field criterion (+-0.5 dB for R >= max(2 L^2/lambda, 3 lambda, 5 L)) at
     every judged point, met for the half-wave dipole, the collinear array and the untilted
-    panel (PyNEC reference, tests/data/nec). The collinear's filled side-lobe nulls (el
-    +-20 deg, still filling in at 1.1..2 R_ff) need the quadratic aperture phase of the
+    panel (PyNEC reference, tests/data/nec). The collinear's first side-lobe null (el
+    +-18..20 deg, still filling in at 1.1..2 R_ff) needs the quadratic aperture phase of the
     array model's taper fit; with a real taper the model is 1.0 dB low there."""
     err, region = auto_errors[name]
     e = err[(region == 2) & np.isfinite(err)]
