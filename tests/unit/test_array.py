@@ -210,3 +210,38 @@ def test_missing_aperture_height_is_an_input_error():
                    electrical_tilt_deg=0.0, frequency_hz=F_HZ, power_w=1.0, pattern=rad.pattern)
     with pytest.raises(InputError, match="aperture height_m"):
         ArraySynthesis.from_radiator(bad)
+
+
+@pytest.mark.parametrize("tilt", [0.0, 6.0])
+def test_a_cut_without_nulls_keeps_a_real_taper(tilt):
+    """The quadratic aperture phase of the taper fit is only for cuts with nulls: the
+    3GPP TR 38.901 Table 7.3-1 vertical form falls monotonically to its side-lobe floor
+    (no nulls), so the column keeps a real taper; its moments carry only the phase
+    progression k z sin(tilt) of the electrical tilt (Balanis sec. 6.3)."""
+    arr = ArraySynthesis.from_radiator(_panel(tilt_deg=tilt))
+    k = 2 * np.pi / arr.wavelength_m
+    taper = arr.moments * np.exp(-1j * k * arr.z_m * np.sin(np.deg2rad(tilt)))
+    assert np.max(np.abs(np.imag(taper))) <= 1e-9 * np.max(np.abs(taper))
+
+
+def test_filled_nulls_of_a_collinear_fill_further_towards_the_antenna():
+    """PyNEC collinear (tests/data/nec): its cut has nulls, so the taper gets a quadratic
+    phase with the sign of the near-field term (Fresnel approximation, Balanis 4th ed. sec.
+    4.4.2, from memory): in and beside the first null (el 18.5 and 20 deg) the column's
+    density times r^2 grows steadily from 100 R_ff (far field) in to R_ff, never dipping
+    below its far-field value as the conjugate (focusing) sign would."""
+    from pathlib import Path
+
+    from siteexposure.readers.pattern_csv import read_pattern_csv
+
+    pat = read_pattern_csv(Path(__file__).resolve().parents[1] / "data" / "nec" / "collinear.csv")
+    lam = C0 / (pat.frequency_mhz * 1e6)
+    rad = Radiator(position_m=np.zeros(3), azimuth_deg=0.0, mechanical_tilt_deg=0.0,
+                   electrical_tilt_deg=0.0, frequency_hz=pat.frequency_mhz * 1e6, power_w=1.0,
+                   pattern=pat, aperture_height_m=2.9 * lam)
+    arr = ArraySynthesis.from_radiator(rad)
+    assert np.max(np.abs(np.imag(arr.moments))) > 0.01 * np.max(np.abs(arr.moments))
+    r = arr.far_field_range_m * np.array([100.0, 4.0, 3.0, 2.0, 1.5, 1.0])
+    for el in np.deg2rad([18.5, 20.0]):
+        s = arr._density(r * np.cos(el), r * np.sin(el)) * r**2
+        assert np.all(np.diff(s) > 0)

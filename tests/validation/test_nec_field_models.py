@@ -97,27 +97,32 @@ def test_auto_not_assessable_only_inside_the_reactive_radius(auto_errors):
         assert np.all(ok[r >= max(r_react, 0.5 * big + lam / (2 * np.pi))]), name
 
 
+@pytest.mark.parametrize("name", ["dipole", "collinear", "panel"])
+def test_far_field_region_within_half_a_db(auto_errors, name):
+    """Issue 3 far-field criterion (+-0.5 dB for R >= max(2 L^2/lambda, 3 lambda, 5 L)) at
+    every judged point, met for the half-wave dipole, the collinear array and the untilted
+    panel (PyNEC reference, tests/data/nec). The collinear's first side-lobe null (el
+    +-18..20 deg, still filling in at 1.1..2 R_ff) needs the quadratic aperture phase of the
+    array model's taper fit; with a real taper the model is 1.0 dB low there."""
+    err, region = auto_errors[name]
+    e = err[(region == 2) & np.isfinite(err)]
+    assert e.size > 0 and np.max(np.abs(e)) <= 0.5, f"{name}: {np.max(np.abs(e)):.2f} dB"
+
+
 @pytest.mark.xfail(strict=True, reason=(
-    "measured shortfall: in the far field `auto` (array synthesis) has 5th..95th percentile "
-    "-0.22..+0.03 dB but extremes of -1.39 dB and +1.97 dB: collinear at el +-20 deg (a "
-    "side-lobe null still filling in at 1.1..2 R_ff, by about 1 dB more than the model's real "
-    "taper fills it) and the 6 deg tilted panel beside and behind (its vertical beam shape "
-    "there matches neither cut); see tests/data/nec/accuracy.md. Not loosened."))
-def test_far_field_region_within_half_a_db_everywhere(auto_errors):
-    """Issue 3: within +-0.5 dB in the far field at every judged point."""
-    for name, (err, region) in auto_errors.items():
-        e = err[(region == 2) & np.isfinite(err)]
-        assert np.max(np.abs(e)) <= 0.5, f"{name}: {np.max(np.abs(e)):.2f} dB"
-
-
-def test_far_field_of_the_untilted_panel_within_half_a_db(auto_errors):
-    """Issue 3 far-field criterion (+-0.5 dB for R >= max(2 L^2/lambda, 3 lambda, 5 L)) met
-    for the half-wave dipole and the untilted panel: beyond the far-field range the array
-    model's element factor is the pattern's own 3-D gain (PyNEC reference, judged points)."""
-    for name in ("dipole", "panel"):
-        err, region = auto_errors[name]
-        e = err[(region == 2) & np.isfinite(err)]
-        assert e.size > 0 and np.max(np.abs(e)) <= 0.5, f"{name}: {np.max(np.abs(e)):.2f} dB"
+    "measured shortfall: far-field errors of `auto` for the 6 deg tilted panel are "
+    "-0.83..+2.00 dB (83 of 532 judged points outside +-0.5 dB); the model's far-field gain "
+    "is -1.31..+1.97 dB off the solver's own 3-D far field at those points (beside and "
+    "behind: az 90..150 deg, el -12..-2 deg; off-axis in front near the upper nulls: az "
+    "30..75 deg, el +2..+15 deg; az 75 deg, el -20 deg), while its finite-range part is "
+    "within -0.55..+0.63 dB. The three "
+    "cuts of the pattern file do not carry the vertical beam shape off the cut planes; see "
+    "tests/data/nec/README.md. Not loosened."))
+def test_far_field_of_the_tilted_panel_within_half_a_db(auto_errors):
+    """Issue 3: within +-0.5 dB in the far field at every judged point (6 deg tilted panel)."""
+    err, region = auto_errors["panel_tilt6"]
+    e = err[(region == 2) & np.isfinite(err)]
+    assert e.size > 0 and np.max(np.abs(e)) <= 0.5, f"panel_tilt6: {np.max(np.abs(e)):.2f} dB"
 
 
 def test_accuracy_statement_is_current(auto_errors):
