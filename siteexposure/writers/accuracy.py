@@ -76,6 +76,19 @@ POYNTING = (
     ('auto (array-synthesis), far field', '6034', '6034', '+0.00', '-0.12', '+0.14', '-0.81', '+2.00', '100.0 %',),
 )
 
+#: what the validation found each model cannot do, as the report states it (kept with the
+#: tables above; tests/data/nec/README.md "Status" has the measurements)
+KNOWN_LIMITS = {
+    "array-synthesis": (
+        "The far-field extremes come from the 6° electrically tilted reference panel, beside "
+        "and behind it and off-axis near its upper nulls: there the three cuts of a pattern file "
+        "do not carry the vertical beam shape, and the gain synthesised from them differs from "
+        "the antenna's own. The validation's far-field target of ±0.5 dB is met for the dipole, "
+        "the collinear and the untilted panel, not for the tilted panel. Allow for this beside "
+        "and behind electrically tilted antennas where the margin is small."
+    ),
+}
+
 #: model ids of the package that the validation covers (the rest: "not validated")
 VALIDATED_MODEL_IDS = ("far-field-friis", "oet65-cylindrical", "array-synthesis")
 

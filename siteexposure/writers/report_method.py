@@ -62,6 +62,13 @@ def _accuracy_table(ctx: ReportContext, used: list[str]) -> list:
     if not rows:
         return [para("None of the models used here is part of the method-of-moments validation "
                      "of this version: their accuracy is not available from it.")]
+    extremes = []
+    for mid in used:
+        parts = [f"{r[0].split(', ', 1)[1]} {r[6]} to {r[7]} dB"
+                 for r in accuracy.rows_for(mid, accuracy.E_FIELD)]
+        if parts:
+            extremes.append(f"{mid}: " + "; ".join(parts) + ". "
+                            + accuracy.KNOWN_LIMITS.get(mid, ""))
     return [
         table(["model", "region", "median (dB)", "5th to 95th percentile (dB)",
                "within −1.5..+3 dB", "median (dB)", "5th to 95th percentile (dB)",
@@ -70,6 +77,9 @@ def _accuracy_table(ctx: ReportContext, used: list[str]) -> list:
         para("Columns 3 to 5: against the plane-wave equivalent of the computed E field "
              "(|E_rms|²/η0); columns 6 to 8: against the magnitude of the time-averaged "
              "Poynting vector. " + accuracy.SUMMARY + f" Source: {accuracy.SOURCE}.", "small"),
+        para("Largest errors at any judged point (smallest to largest, against the E field; a "
+             "negative value understates the exposure):"),
+        *bullets(extremes),
     ]
 
 
