@@ -646,32 +646,66 @@ def _radiated_power(w, z, k, table) -> tuple[float, float]:
 
 
 
-_SHAPES: dict = {}
+_SHAPES: dict = {}  # (id(pattern), f, h, tilt) -> (pattern, shape)
+_SHAPES_BY_CONTENT: dict = {}  # (digest of what the fit reads, f, h, tilt) -> shape
 _SHAPES_SIZE = 64
+
+
+def _content_key(arrays, *scalars) -> tuple:
+    """A key for the exact values the fit reads: SHA-256 of the arrays' bytes, and scalars."""
+    import hashlib
+
+    digest = hashlib.sha256()
+    for a in arrays:
+        a = np.ascontiguousarray(a, dtype=float)
+        digest.update(str(a.shape).encode())
+        digest.update(a.tobytes())
+    return (digest.hexdigest(), *scalars)
+
+
+def _remember(memo: dict, key, value) -> None:
+    if len(memo) >= _SHAPES_SIZE:
+        memo.pop(next(iter(memo)))
+    memo[key] = value
 
 
 def _column_shape(pattern, frequency_hz: float, h: float, electrical_tilt_deg: float) -> tuple:
     """The orientation- and power-independent part of an array model, memoised.
 
-    Antennas of a site that share a pattern object, frequency, aperture height and tilt
-    (the sectors of one operator's band) share one taper fit and one sphere integral;
-    only position, orientation and power differ, and those are applied afterwards.
-    Returns ``(z_m, unit_moments, element_table, element_table_far, vertical_correction,
-    p_unit, u_peak, tilt)``.
+    Antennas that share a pattern, frequency, aperture height and tilt (the sectors of one
+    operator's band, or the same antenna type on many sites of a batch) share one taper fit
+    and one sphere integral; only position, orientation and power differ, and those are
+    applied afterwards. The memo is keyed by the pattern object and, behind it, by the
+    values the fit reads (the element tables and front cut of :func:`_element_table`, the
+    tilt in the data): the same pattern read again from another file, or written inline
+    twice, is fitted once. Returns ``(z_m, unit_moments, element_table, element_table_far,
+    vertical_correction, p_unit, u_peak, tilt)``.
     """
     key = (id(pattern), frequency_hz, h, electrical_tilt_deg)
     hit = _SHAPES.get(key)
     if hit is not None and hit[0] is pattern:
         return hit[1]
+    table, table_far, el, g_v = _element_table(pattern)
+    tilt_data = float(getattr(pattern, "electrical_tilt_deg", 0.0) or 0.0)
+    # a table pattern carries its own tilt; a parametric one is built with the radiator's
+    tilt = tilt_data if hasattr(pattern, "h_angle_deg") else float(electrical_tilt_deg)
+    ckey = _content_key((table, table_far, el, g_v), tilt_data, tilt, frequency_hz, h)
+    out = _SHAPES_BY_CONTENT.get(ckey)
+    if out is None:
+        out = _fit_column_shape(table, table_far, el, g_v, tilt_data, tilt, frequency_hz, h)
+        _remember(_SHAPES_BY_CONTENT, ckey, out)
+    _remember(_SHAPES, key, (pattern, out))  # holding the pattern keeps its id unique
+    return out
+
+
+def _fit_column_shape(table, table_far, el, g_v, tilt_data: float, tilt: float,
+                      frequency_hz: float, h: float) -> tuple:
+    """:func:`_column_shape` from the element tables and front cut of the pattern."""
     lam = C0 / frequency_hz
     k = 2.0 * np.pi / lam
     n = n_sub_sources(h, lam)
     d = h / n
     z = (np.arange(n) + 0.5) * d - 0.5 * h
-    table, table_far, el, g_v = _element_table(pattern)
-    tilt_data = float(getattr(pattern, "electrical_tilt_deg", 0.0) or 0.0)
-    # a table pattern carries its own tilt; a parametric one is built with the radiator's
-    tilt = tilt_data if hasattr(pattern, "h_angle_deg") else float(electrical_tilt_deg)
     amp, kk = _fit_taper(z, k, el, g_v, np.deg2rad(tilt_data))
     amp, kk = _fit_quadratic_phase(z, k, el, g_v, np.deg2rad(tilt_data), amp, kk)
     corr = np.ones(181)
@@ -686,11 +720,7 @@ def _column_shape(pattern, frequency_hz: float, h: float, electrical_tilt_deg: f
     unit = amp * np.sqrt(kk / (4.0 * np.pi * const))
     unit = unit * np.exp(1j * k * z * np.sin(np.deg2rad(tilt)))
     p_unit, u_peak = _radiated_power(unit, z, k, table_far * corr[None, :])
-    out = (z, unit, table, table_far, corr, p_unit, u_peak, tilt)
-    if len(_SHAPES) >= _SHAPES_SIZE:
-        _SHAPES.pop(next(iter(_SHAPES)))
-    _SHAPES[key] = (pattern, out)  # holding the pattern keeps its id unique
-    return out
+    return (z, unit, table, table_far, corr, p_unit, u_peak, tilt)
 
 _CACHE: dict = {}
 _CACHE_SIZE = 64

@@ -245,3 +245,24 @@ def test_filled_nulls_of_a_collinear_fill_further_towards_the_antenna():
     for el in np.deg2rad([18.5, 20.0]):
         s = arr._density(r * np.cos(el), r * np.sin(el)) * r**2
         assert np.all(np.diff(s) > 0)
+
+
+def test_the_same_pattern_read_twice_is_fitted_once():
+    """The column-shape memo is keyed by the values the fit reads: a second copy of the same
+    pattern file (as a batch reads it for every site) reuses the first fit; another pattern,
+    frequency or height does not."""
+    from pathlib import Path
+
+    from siteexposure.physics import array as arr
+    from siteexposure.readers.pattern_csv import read_pattern_csv
+
+    data = Path(__file__).resolve().parents[1] / "data" / "nec"
+    one = read_pattern_csv(data / "panel_tilt6.csv")
+    two = read_pattern_csv(data / "panel_tilt6.csv")
+    other = read_pattern_csv(data / "panel.csv")
+    assert one is not two
+    first = arr._column_shape(one, 1900e6, 1.04, 6.0)
+    assert arr._column_shape(two, 1900e6, 1.04, 6.0) is first
+    assert arr._column_shape(other, 1900e6, 1.04, 0.0) is not first
+    assert arr._column_shape(two, 1800e6, 1.04, 6.0) is not first
+    assert arr._column_shape(two, 1900e6, 0.9, 6.0) is not first
