@@ -19,11 +19,12 @@ repeats and keeping the best of each:
    (``fast_vs_plain_max_rel_diff``, with the count of differing NaN flags);
 4. the array-synthesis throughput per sub-source (source x sub-source x point per second)
    through the same loop, and its ratio to (2);
-5. the peak memory at about 1 M and 4 M points: the high-water mark of the resident set
-   (``ru_maxrss``) of a fresh process that builds the same site at that grid and screens it
+5. the peak memory at about 1 M and 4 M points: the resident-set high-water mark of this
+   process while it screens the same site at that grid
    (:func:`siteexposure.engine.orchestrator.evaluate_site`: grid, every source, every limit
-   set, contributions, keep-out distances, mitigation), everything a screening run holds
-   included -- interpreter, libraries, numba's compiled code, the grids and results;
+   set, contributions, keep-out distances, mitigation), reset just before each run (Linux
+   ``/proc/self/clear_refs``; elsewhere a fresh process per size), everything a screening run
+   holds included -- interpreter, libraries, numba's compiled code, the grids and results;
    ``memory_ratio_4m_vs_1m`` is their ratio and ``memory_growth_bytes_per_point`` what each
    further point adds. Beside it, inside this process, the tracemalloc peak of the numpy
    allocations of one engine loop (``engine_traced_*``), split into the result array
@@ -296,29 +297,61 @@ def rss_mb() -> float:
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
 
 
-def screen_memory_child(points: float) -> int:
-    """In a fresh process: screen the invented site at about ``points`` points and print
-    ``{"points", "rss_mb", "screen_s"}`` as JSON (see ``--memory-child``)."""
+def _reset_peak_rss() -> bool:
+    """Reset this process's resident-set high-water mark (Linux: ``/proc/self/clear_refs``,
+    value 5, see proc(5)); False where the system offers no such reset."""
+    try:
+        with open("/proc/self/clear_refs", "w") as f:
+            f.write("5")
+        return True
+    except OSError:
+        return False
+
+
+def _peak_rss_since_reset_mb() -> float:
+    """``VmHWM`` of ``/proc/self/status``: the resident high-water mark since the reset. [MB]"""
+    with open("/proc/self/status") as f:
+        for line in f:
+            if line.startswith("VmHWM:"):
+                return int(line.split()[1]) / 1024.0
+    raise OSError("VmHWM missing from /proc/self/status")
+
+
+def _screen(site) -> tuple[int, float]:
     from siteexposure.engine.orchestrator import evaluate_site
 
-    with tempfile.TemporaryDirectory(prefix="siteexposure-bench-mem-") as tmp:
-        site = build_site(Path(tmp), "far-field", resolution_for(points))
-        eng = Engine(site)
-        t = time.perf_counter()
-        evaluate_site(site)
-        dt = time.perf_counter() - t
-    print(json.dumps({"points": eng.n_points, "rss_mb": rss_mb(), "screen_s": dt}))
-    return 0
+    n = Engine(site).n_points
+    t = time.perf_counter()
+    evaluate_site(site)
+    return n, time.perf_counter() - t
 
 
-def screen_memory(points: float) -> dict:
-    """Peak resident memory of a fresh process screening the site at ``points`` points."""
+def screen_memory(site, points: float) -> dict:
+    """Peak resident memory of screening ``site`` at about ``points`` points: in this process
+    (high-water mark reset just before), or, where the system cannot reset it, in a fresh
+    process (``--memory-child``)."""
+    import gc
+
+    sized = replace(site, resolution_m=resolution_for(points))
+    gc.collect()
+    if _reset_peak_rss():
+        n, dt = _screen(sized)
+        return {"points": n, "rss_mb": _peak_rss_since_reset_mb(), "screen_s": dt,
+                "where": "this process"}
     import subprocess
 
-    env = dict(os.environ)
     cmd = [sys.executable, str(Path(__file__).resolve()), "--memory-child", repr(points)]
-    done = subprocess.run(cmd, capture_output=True, text=True, env=env, check=True)
-    return json.loads(done.stdout.strip().splitlines()[-1])
+    done = subprocess.run(cmd, capture_output=True, text=True, check=True)
+    return {**json.loads(done.stdout.strip().splitlines()[-1]), "where": "a fresh process"}
+
+
+def screen_memory_child(points: float) -> int:
+    """In a fresh process: screen the invented site at about ``points`` points and print
+    ``{"points", "rss_mb", "screen_s"}`` as JSON (the fallback of :func:`screen_memory`)."""
+    with tempfile.TemporaryDirectory(prefix="siteexposure-bench-mem-") as tmp:
+        n, dt = _screen(build_site(Path(tmp), "far-field", resolution_for(points)))
+    print(json.dumps({"points": n, "rss_mb": rss_mb(), "screen_s": dt}))
+    return 0
 
 
 def demo_run(quick: bool, out_dir: Path) -> tuple[float | None, dict, list[str]]:
@@ -436,8 +469,8 @@ def main(argv=None) -> int:
         # memory at two sizes: a screening run in a fresh process each, then the engine loop
         # traced in this one
         log(f"bench: peak memory of screening runs at {n_mem[0]:,.0f} and {n_mem[1]:,.0f} "
-            "points (one fresh process each)")
-        child = [screen_memory(n) for n in n_mem]
+            "points")
+        child = [screen_memory(site, n) for n in n_mem]
         mem = []
         for n in n_mem:
             e = Engine(replace(site, resolution_m=resolution_for(n)))
@@ -451,14 +484,18 @@ def main(argv=None) -> int:
                    memory_growth_bytes_per_point=(child[1]["rss_mb"] - child[0]["rss_mb"])
                    * 2**20 / (child[1]["points"] - child[0]["points"]),
                    screen_s=[c["screen_s"] for c in child],
+                   peak_memory_measured_in=child[0]["where"],
                    engine_traced_points=[m[0] for m in mem],
                    engine_traced_peak_mb=[m[1] for m in mem],
                    engine_traced_ratio_4m_vs_1m=mem[1][1] / mem[0][1],
                    result_memory_mb=[m[2] for m in mem], working_memory_mb=work,
                    working_memory_ratio_4m_vs_1m=work[1] / work[0], rss_high_water_mb=rss_mb(),
-                   memory_method="peak_memory_*: ru_maxrss of a fresh process that builds the "
-                                 "site and screens it (evaluate_site) at that grid, everything "
-                                 "it holds included; engine_traced_*: tracemalloc peak of the "
+                   memory_method="peak_memory_*: resident-set high-water mark (VmHWM) of this "
+                                 "process while it screens the site (evaluate_site) at that "
+                                 "grid, reset just before (/proc/self/clear_refs), everything "
+                                 "the process holds included (interpreter, libraries, compiled "
+                                 "code, grids, results); where no reset exists, ru_maxrss of a "
+                                 "fresh process doing the same; engine_traced_*: tracemalloc peak of the "
                                  "numpy allocations of one engine loop in this process, its "
                                  "result array (n_combo x n_column values, growing with the "
                                  "grid) included; working_memory_*: the same less the result; "

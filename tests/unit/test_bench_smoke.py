@@ -51,3 +51,12 @@ def test_quick_json_run_has_the_documented_keys_with_finite_values():
         assert math.isfinite(out["demo_run_s"]) and out["demo_stages_s"]["screen_s"] >= 0.0
     else:
         assert out["demo_run_s"] is None
+
+
+def test_memory_child_fallback_prints_its_measurement():
+    """The fresh-process memory measurement (used where the high-water mark cannot be reset)."""
+    run = subprocess.run([sys.executable, str(BENCH), "--memory-child", "20000"],
+                         capture_output=True, text=True, timeout=300)
+    assert run.returncode == 0, run.stderr[-2000:]
+    out = json.loads(run.stdout.strip().splitlines()[-1])
+    assert out["points"] > 10000 and out["rss_mb"] > 0 and out["screen_s"] >= 0
