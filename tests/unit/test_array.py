@@ -266,3 +266,42 @@ def test_the_same_pattern_read_twice_is_fitted_once():
     assert arr._column_shape(other, 1900e6, 1.04, 0.0) is not first
     assert arr._column_shape(two, 1800e6, 1.04, 6.0) is not first
     assert arr._column_shape(two, 1900e6, 0.9, 6.0) is not first
+
+
+@pytest.mark.parametrize("hpbw_v, f_mhz, h, tilt", [
+    (9.47, 1950.0, 1.4, 0.0), (9.47, 1950.0, 1.4, 6.0), (6.5, 1950.0, 1.3, 10.0),
+    (11.0, 740.0, 1.8, 6.0), (15.0, 700.0, 1.2, 0.0), (12.0, 3500.0, 0.6, 6.0),
+    (4.5, 1800.0, 2.0, 0.0),
+])
+def test_far_field_reproduces_a_3gpp_panel_and_never_falls_below_it(hpbw_v, f_mhz, h, tilt):
+    """Issue 3: the array model "must reproduce the antenna's far-field gain and pattern".
+    Against the 3GPP TR 38.901 Table 7.3-1 element pattern (V17.0.0; the parametric model of
+    tests/validation/test_pattern_models.py): in the vertical plane through boresight, within
+    10 dB of the peak, the model's far field has the pattern's shape to 0.2 dB and is never
+    more than 0.05 dB below it. (A uniform-start taper fit alone put nulls of -40 dB into
+    this main beam for 9.47 deg on 1.4 m at 1950 MHz and for 12 deg on 0.6 m at 3500 MHz.)"""
+    from siteexposure.physics.sources import choose_model, power_density
+
+    pat = parametric_pattern({"model": "3gpp-panel", "gain_dbi": 17.0, "hpbw_h_deg": 65.0,
+                              "hpbw_v_deg": hpbw_v}, frequency_mhz=f_mhz,
+                             electrical_tilt_deg=tilt, where="test")
+    rad = Radiator(np.zeros(3), 0.0, 0.0, tilt, f_mhz * 1e6, 1.0, pat, aperture_height_m=h)
+    el = np.deg2rad(np.arange(-60.0, 60.01, 0.25))
+    pts = 2000.0 * np.column_stack([0.0 * el, np.cos(el), np.sin(el)])  # north = boresight
+    s_arr, _ = power_density(rad, choose_model(rad, "array"), pts)
+    s_ff, _ = power_density(rad, choose_model(rad, "far-field"), pts)
+    d = 10.0 * np.log10(s_arr / s_ff)[s_ff >= 0.1 * s_ff.max()]
+    assert d.min() >= -0.05, f"{d.min():+.2f} dB"
+    assert d.max() - d.min() <= 0.2, f"{d.min():+.2f}..{d.max():+.2f} dB"
+
+
+def test_a_pattern_claiming_more_gain_than_its_beam_allows_is_taken_at_its_word():
+    """17 dBi with 65 x 15 deg half-power beamwidths integrates to more than 4 pi (3GPP
+    TR 38.901 form): normalising to the input power would put the model's peak 1.4 dB below
+    the stated gain; the model keeps the stated peak and radiates more (conservative)."""
+    pat = parametric_pattern({"model": "3gpp-panel", "gain_dbi": 17.0, "hpbw_h_deg": 65.0,
+                              "hpbw_v_deg": 15.0}, frequency_mhz=700.0, where="test")
+    rad = Radiator(np.zeros(3), 0.0, 0.0, 0.0, 700e6, 10.0, pat, aperture_height_m=1.2)
+    model = ArraySynthesis.from_radiator(rad)
+    assert 1.2 < model.radiated_power_ratio < 1.6
+    assert abs(model.far_field_peak_gain_dbi - 17.0) < 0.05
