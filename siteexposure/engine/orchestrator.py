@@ -64,8 +64,14 @@ def build_sources(site: Site) -> tuple[list[Source], list[AntennaResult]]:
 #: aperture length, and its floor (siteexposure.physics.array._radiated_power)
 _ARRAY_NODES_PER_RAD = 6.0
 _ARRAY_MIN_NODES = 256
-_ARRAY_BYTES_PER_NODE2 = 16  #: numpy's leggauss solves a dense n x n eigenproblem
-_ARRAY_SECONDS_PER_NODE3 = 1.0e-10  #: and takes about this long per n^3 (measured, rounded up)
+# The set-up estimate below was sized for numpy's leggauss (a dense n x n eigenproblem). The
+# nodes now come from scipy.special.roots_legendre; measured since then (2 cores): about 26 kB
+# and 0.2 ms per node of the sphere integral (n + 3601 elevation nodes), so for n above about
+# 1600 this estimate overstates the memory (4x at n = 8800) and for small n understates it
+# (100 MB at n = 256). Kept as it is: it refuses very long apertures up front, which a
+# time budget would otherwise have to do; to be revisited with one.
+_ARRAY_BYTES_PER_NODE2 = 16  #: numpy's leggauss solved a dense n x n eigenproblem
+_ARRAY_SECONDS_PER_NODE3 = 1.0e-10  #: and took about this long per n^3 (measured, rounded up)
 
 
 def _array_preparation(site: Site) -> tuple[int, float, str | None]:
