@@ -183,7 +183,12 @@ def distance_result(
         from siteexposure.physics.cylindrical import power_consistent_beamwidth_deg
         from siteexposure.physics.patterns import parametric_pattern
         from siteexposure.physics.radiator import Radiator
-        from siteexposure.physics.sources import choose_model, keep_out_distances, reactive_radius_m
+        from siteexposure.physics.sources import (
+            choose_model,
+            keep_out_distances,
+            power_floor_note,
+            reactive_radius_m,
+        )
 
         inputs["aperture_height_m"] = aperture_height_m
         sector = hpbw_h_deg is not None and hpbw_h_deg < 360.0
@@ -245,6 +250,9 @@ def distance_result(
             "model_id": choice.model_id,
             "reason": choice.reason,
         }
+        note = power_floor_note(choice)
+        if note:
+            notes.append(f"The {choice.model_id} model: {note}.")
         r_boundary = float(far_field_boundary_m(aperture_height_m, lam))
         notes.append(
             f"Within {r0:.3g} m of the radiation centre (reactive near field) the "

@@ -252,6 +252,7 @@ def evaluate_site(site: Site, *, progress: bool = False, mitigation: bool = True
         for rec in site.points
     ]
     _keep_out(sources, antenna_results, table)
+    _note_power_floor(sources, antenna_results)
     if mitigation:
         from siteexposure.engine.mitigation import add_mitigation
 
@@ -403,6 +404,19 @@ def evaluate_point(site: Site, at_m, *, name: str = "point", access: str = "publ
         reason=reason,
         exposure=exposure,
     )
+
+
+def _note_power_floor(sources, records) -> None:
+    """Add to the model record of each array model that radiates more than its input power
+    (to keep the pattern's stated peak gain) how much more."""
+    from dataclasses import replace
+
+    from siteexposure.physics.sources import power_floor_note
+
+    for src, rec in zip(sources, records, strict=True):
+        note = power_floor_note(src.choice)
+        if note:
+            rec.model = replace(rec.model, reason=f"{rec.model.reason}; {note}")
 
 
 def _keep_out(sources, records, table: ComboTable) -> None:

@@ -236,6 +236,19 @@ def _prepared_array(rad, choice: ModelChoice):
     return entry[1]
 
 
+def power_floor_note(choice: ModelChoice) -> str | None:
+    """A sentence for the model record where an array model, once built, radiates more than
+    the input power to keep the pattern's stated peak gain (see
+    :class:`siteexposure.physics.array.ArraySynthesis`), else None."""
+    entry = choice.prepared.get("array")
+    ratio = float(entry[1].radiated_power_ratio) if entry is not None else 1.0
+    if ratio <= 1.001:
+        return None
+    return (f"its far field is held at the pattern's stated peak gain, so it radiates "
+            f"{100.0 * (ratio - 1.0):.1f} % more than the input power (the pattern's 3-D gain "
+            "integrates to more than 4 pi; conservative)")
+
+
 def keep_out_directions_enu(azimuth_deg: float) -> dict[str, np.ndarray]:
     """Unit vectors (east, north, up) of the six keep-out directions of an antenna. [1]"""
     a = np.deg2rad(float(azimuth_deg))

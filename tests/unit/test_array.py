@@ -325,3 +325,22 @@ def test_far_field_follows_a_reference_envelope_at_the_correction_nodes():
     sel = s_ff >= 0.1 * s_ff.max()
     d = 10.0 * np.log10(s_arr / s_ff)[sel]
     assert sel.sum() >= 15 and np.max(np.abs(d)) <= 0.05, f"{d.min():+.2f}..{d.max():+.2f} dB"
+
+
+def test_the_model_record_says_when_an_array_radiates_more_than_its_input_power():
+    """The same 17 dBi / 65 x 15 deg pattern (3GPP TR 38.901 form): once the array model is
+    built, its record says by how much it radiates more than the input power; a pattern
+    that integrates to less than 4 pi gets no such sentence."""
+    from siteexposure.physics.sources import choose_model, power_density, power_floor_note
+
+    for hpbw_v, expect in ((15.0, True), (6.5, False)):
+        pat = parametric_pattern({"model": "3gpp-panel", "gain_dbi": 17.0, "hpbw_h_deg": 65.0,
+                                  "hpbw_v_deg": hpbw_v}, frequency_mhz=700.0, where="test")
+        rad = Radiator(np.zeros(3), 0.0, 0.0, 0.0, 700e6, 10.0, pat, aperture_height_m=1.2)
+        choice = choose_model(rad, "auto")
+        assert power_floor_note(choice) is None  # nothing built yet
+        power_density(rad, choice, np.array([[0.0, 30.0, 0.0]]))
+        note = power_floor_note(choice)
+        assert (note is not None) == expect
+        if expect:
+            assert "% more than the input power" in note
