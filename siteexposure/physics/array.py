@@ -108,6 +108,7 @@ NULL_DEPTH_DB = 6.0  #: a sample this far below the lobes on both sides is in a 
 NULL_HALF_WIDTH_DEG = 10.0  #: how far to each side the lobes of a null are looked for [deg]
 _FIT_STEP_DEG = 0.5
 _CHUNK_ELEMENTS = 1_500_000  # (n_sub x n_point) block size of the near-field sum
+COLUMN_MIN_WL = 0.45  #: shorter vertical bodies take the lattice's thin-wire current [lambda]
 
 
 def n_sub_sources(height_m: float, wavelength_m: float) -> int:
@@ -222,7 +223,7 @@ def _element_table(pattern) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndar
     return 10.0 ** (near_db / 10.0), 10.0 ** (far_db / 10.0), el, 10.0 ** (g_v_db / 10.0)
 
 
-def _fit_taper(z_m, k, el, g_v, tilt_rad) -> tuple[np.ndarray, float]:
+def _fit_taper(z_m, k, el, g_v, tilt_rad, element=None) -> tuple[np.ndarray, float]:
     """Real symmetric amplitudes ``A`` (max 1) and scale ``K`` with ``K cos^2 |AF_A|^2 ~ g_v``.
 
     A least-squares fit in dB of the column's far-field vertical pattern to the vertical cut
@@ -233,6 +234,8 @@ def _fit_taper(z_m, k, el, g_v, tilt_rad) -> tuple[np.ndarray, float]:
     the cut's main beam (a 3GPP-form cut of 9.5 deg on a 1.4 m column at 1950 MHz: -40 dB
     within 10 dB of the peak). It therefore starts from the uniform taper and from Gaussian
     tapers matched to the cut's half-power width (:func:`_taper_starts`) and keeps the best.
+    ``element`` is the amplitude of one element's far field along the cut (default
+    ``cos(el)``, a current element along the column's axis).
     """
     from scipy.optimize import least_squares
 
@@ -244,7 +247,8 @@ def _fit_taper(z_m, k, el, g_v, tilt_rad) -> tuple[np.ndarray, float]:
         m[i, min(i, n - 1 - i)] = 1.0
     u = np.sin(el)
     phase = np.exp(1j * k * np.outer(u + np.sin(tilt_rad), z_m))  # (n_el, n)
-    basis = (phase @ m) * np.cos(el)[:, None]  # field of each free amplitude, (n_el, half)
+    elem = np.cos(el) if element is None else np.asarray(element, dtype=float)
+    basis = (phase @ m) * elem[:, None]  # field of each free amplitude, (n_el, half)
     g_max = g_v.max()
     floor = g_max * 10.0 ** (-FIT_FLOOR_DB / 10.0)
     target_db = 10.0 * np.log10(g_v + floor)
@@ -318,7 +322,8 @@ def _taper_starts(z_m, k, el, g_v) -> np.ndarray:
     return np.array(starts)
 
 
-def _fit_quadratic_phase(z_m, k, el, g_v, tilt_rad, a_real, k_real) -> tuple[np.ndarray, float]:
+def _fit_quadratic_phase(z_m, k, el, g_v, tilt_rad, a_real, k_real, element=None
+                         ) -> tuple[np.ndarray, float]:
     """The real taper ``a_real`` times a quadratic phase ``exp(-j q (2 z / H)^2)``. [1]
 
     Only where the cut has nulls within the fit's range: samples more than
@@ -359,7 +364,8 @@ def _fit_quadratic_phase(z_m, k, el, g_v, tilt_rad, a_real, k_real) -> tuple[np.
     if n < 3 or span <= 0:
         return a_re.astype(complex), float(k_real)
     zz = (2.0 * (z_m - 0.5 * (z_m.max() + z_m.min())) / span) ** 2
-    phase = np.exp(1j * k * np.outer(np.sin(el) + np.sin(tilt_rad), z_m)) * np.cos(el)[:, None]
+    elem = np.cos(el) if element is None else np.asarray(element, dtype=float)
+    phase = np.exp(1j * k * np.outer(np.sin(el) + np.sin(tilt_rad), z_m)) * elem[:, None]
     g_max = g_v.max()
     floor = g_max * 10.0 ** (-FIT_FLOOR_DB / 10.0)
     target_db = 10.0 * np.log10(g_v + floor)
@@ -551,7 +557,13 @@ class ArraySynthesis:
         return 4.0 * np.pi * u / self.power_w
 
     def power_density(self, points_enu) -> tuple[np.ndarray, np.ndarray]:
-        """Plane-wave-equivalent power density of the coherent sum at field points.
+        """``|E_rms|^2 / eta0`` of the coherent sum at field points, and the assessable mask
+        (see :meth:`fields`)."""
+        s_e, _, ok = self.fields(points_enu)
+        return s_e, ok
+
+    def fields(self, points_enu) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Plane-wave-equivalent densities of the E and H fields of the coherent sum.
 
         Parameters
         ----------
@@ -560,10 +572,12 @@ class ArraySynthesis:
 
         Returns
         -------
-        s_w_m2 : ndarray, shape (...)
+        s_e_w_m2 : ndarray, shape (...)
             ``F |E_rms|^2 / eta0``; NaN where not assessable. [W/m^2]
+        s_h_w_m2 : ndarray, shape (...)
+            ``F eta0 |H_rms|^2``; NaN where not assessable. [W/m^2]
         assessable : ndarray of bool, shape (...)
-            False inside the reactive radius or within ``lambda/(2 pi)`` of the column.
+            False within ``lambda/(2 pi)`` of the column.
 
         Notes
         -----
@@ -573,7 +587,9 @@ class ArraySynthesis:
             E_r = eta p_n c / (2 pi R^2) (1 + 1/(j k R)) exp(-j k R)
             E_t = j eta k p_n s / (4 pi R) (1 + 1/(j k R) - 1/(k R)^2) exp(-j k R)
             E_rho = sum_n (E_r s + E_t c),   E_z = sum_n (E_r c - E_t s)
+            H_phi = sum_n j k p_n s / (4 pi R) (1 + 1/(j k R)) exp(-j k R)
             S = F e(phi, el) C(el)^beta(r) (|E_rho|^2 + |E_z|^2) / (2 eta)
+            S_H = F e(phi, el) C(el)^beta(r) eta |H_phi|^2 / 2
 
         ``phi``, ``el`` are the pattern angles of the point seen from the radiation centre
         (the element factor is common to all elements of the column).
@@ -586,30 +602,35 @@ class ArraySynthesis:
 
         fused = fused_power_density(self, xa, ya, za) if self.power_w > 0 else None
         if fused is not None:
-            return fused[0].reshape(shape), fused[1].reshape(shape)
+            return fused[0].reshape(shape), fused[2].reshape(shape), fused[1].reshape(shape)
         r, phi, theta = antenna_angles(xa, ya, za)
         rho = np.hypot(xa, ya)
         z_near = np.clip(za, self.z_m[0], self.z_m[-1])
         near_column = np.hypot(rho, za - z_near) < self.column_clearance_m
         ok = (r >= self.reactive_radius_m) & ~near_column & np.isfinite(r)
         s = np.full(r.shape, np.nan)
+        s_h = np.full(r.shape, np.nan)
         idx = np.flatnonzero(ok)
         step = max(1, _CHUNK_ELEMENTS // self.z_m.size)
         for i0 in range(0, idx.size, step):
             sel = idx[i0 : i0 + step]
             e = self._factor(phi[sel], theta[sel], r[sel])
-            s[sel] = self._density(rho[sel], za[sel]) * e
-        return s.reshape(shape) * self.reflection_factor, ok.reshape(shape)
+            d_e, d_h = self._density(rho[sel], za[sel])
+            s[sel] = d_e * e
+            s_h[sel] = d_h * e
+        f = self.reflection_factor
+        return s.reshape(shape) * f, s_h.reshape(shape) * f, ok.reshape(shape)
 
-    def _density(self, rho, za) -> np.ndarray:
-        """Density of the column without the element factor at cylindrical (rho, z). [W/m^2]
+    def _density(self, rho, za) -> tuple[np.ndarray, np.ndarray]:
+        """E- and H-field densities of the column without the element factor at cylindrical
+        (rho, z). [W/m^2]
 
         The coherent sum runs in :func:`siteexposure.physics.array_kernel.column_density`
         (compiled when numba is installed, its numpy reference otherwise).
         """
         from siteexposure.physics.array_kernel import column_density
 
-        return column_density(rho, za, self.z_m, self.moments, self.wavelength_m)
+        return column_density(rho, za, self.z_m, self.moments, self.wavelength_m, with_h=True)
 
 
 def _lookup(table, phi, theta, other=None):
@@ -746,33 +767,67 @@ def array_power_density(rad: Radiator, points_enu) -> tuple[np.ndarray, np.ndarr
 class ArrayModel:
     """Field-model face (:mod:`siteexposure.physics.fieldmodels`) of array synthesis.
 
-    Validated against the method-of-moments references of tests/data/nec from the stand-off
-    of the body outwards (accuracy table in the README).
+    Two builds behind one word: a vertical column of vertical current elements
+    (:class:`ArraySynthesis`: dipoles, collinears, vertically polarised panels, at least
+    :data:`COLUMN_MIN_WL` wavelengths tall) and, for every other body and polarisation, the
+    equivalent-source lattice of :mod:`siteexposure.physics.lattice` (horizontal, slant and
+    circular elements, loops, end-fire Yagis and log-periodic arrays, short dipoles,
+    monopoles on a ground plane). Validated against the method-of-moments references of
+    tests/data/nec from the stand-off of the body outwards (accuracy table in the README).
     """
 
     word = "array"
     model_id = "array-synthesis"
 
-    def __init__(self, rad: Radiator, synthesis: ArraySynthesis) -> None:
+    def __init__(self, rad: Radiator, built) -> None:
         self.rad = rad
-        self.synthesis = synthesis
+        self.built = built
         notes = []
-        ratio = float(synthesis.radiated_power_ratio)
+        layout = getattr(built, "layout", None)
+        if layout:
+            notes.append(f"lattice of {layout}")
+        ratio = float(built.radiated_power_ratio)
         if ratio > 1.001:
             notes.append(f"its far field is held at the pattern's stated peak gain, so it "
                          f"radiates {100.0 * (ratio - 1.0):.1f} % more than the input power "
                          "(the pattern's 3-D gain integrates to more than 4 pi; conservative)")
         self.notes = tuple(notes)
 
+    @staticmethod
+    def uses_column(rad: Radiator) -> bool:
+        """True when the vertical column (:class:`ArraySynthesis`) models ``rad``."""
+        from siteexposure.physics.lattice import (
+            ENDFIRE_DEPTH_RATIO,
+            ENDFIRE_DEPTH_WL,
+            SMALL_BODY_WL,
+        )
+
+        lam = rad.wavelength_m
+        h = float(rad.aperture_height_m or 0.0)
+        depth = float(rad.aperture_depth_m or 0.0)
+        body = rad.body
+        endfire = depth >= ENDFIRE_DEPTH_WL * lam and depth >= ENDFIRE_DEPTH_RATIO * max(
+            h, float(rad.aperture_width_m or 0.0))
+        small = body.largest_dimension_m < SMALL_BODY_WL * lam
+        return (rad.polarization == "vertical" and not rad.ground_plane and not endfire
+                and h >= COLUMN_MIN_WL * lam and not small)
+
     @classmethod
     def from_radiator(cls, rad: Radiator, cache=None) -> ArrayModel:
-        return cls(rad, ArraySynthesis.from_radiator(rad, cache))
+        if cls.uses_column(rad):
+            return cls(rad, ArraySynthesis.from_radiator(rad, cache))
+        from siteexposure.physics.lattice import SourceLattice
+
+        return cls(rad, SourceLattice.from_radiator(rad, cache))
 
     def fields(self, points_enu):
         from siteexposure.physics.fieldmodels import Fields
 
-        s, ok = self.synthesis.power_density(points_enu)
-        return Fields.plane_wave(np.where(ok, s, np.nan))
+        if isinstance(self.built, ArraySynthesis):
+            s_e, s_h, ok = self.built.fields(points_enu)
+            return Fields(np.where(ok, s_e, np.nan), np.where(ok, s_h, np.nan))
+        s_e, s_h = self.built.fields(points_enu)
+        return Fields(s_e, s_h)
 
     def validated(self, points_ant) -> np.ndarray:
         return np.ones(np.asarray(points_ant).shape[:-1], dtype=bool)

@@ -32,8 +32,10 @@ _TWO_PI = 2.0 * math.pi
 _FOUR_PI = 4.0 * math.pi
 
 
-def column_density_reference(rho, za, z_m, moments, wavelength_m) -> np.ndarray:
+def column_density_reference(rho, za, z_m, moments, wavelength_m, with_h: bool = False):
     """Density of the column without its element factor (numpy reference). [W/m^2]
+
+    With ``with_h`` also ``eta0 |H_rms|^2`` of the summed magnetic field (a tuple).
 
     Parameters
     ----------
@@ -53,7 +55,8 @@ def column_density_reference(rho, za, z_m, moments, wavelength_m) -> np.ndarray:
 
         E_r = eta p_n c / (2 pi R^2) (1 + 1/(j k R)) exp(-j k R)
         E_t = j eta k p_n s / (4 pi R) (1 + 1/(j k R) - 1/(k R)^2) exp(-j k R)
-        S = (|sum E_r s + E_t c|^2 + |sum E_r c - E_t s|^2) / (2 eta)
+        H_phi = j k p_n s / (4 pi R) (1 + 1/(j k R)) exp(-j k R)
+        S = (|sum E_r s + E_t c|^2 + |sum E_r c - E_t s|^2) / (2 eta),  S_H = eta |sum H_phi|^2 / 2
     """
     k = _TWO_PI / wavelength_m
     dz = za[None, :] - z_m[:, None]
@@ -67,7 +70,11 @@ def column_density_reference(rho, za, z_m, moments, wavelength_m) -> np.ndarray:
     e_t = (1j * ETA0 * k / _FOUR_PI) * sn / rr * (1.0 + inv - 1.0 / kr**2) * ph
     e_rho = moments @ (e_r * sn + e_t * c)
     e_z = moments @ (e_r * c - e_t * sn)
-    return (np.abs(e_rho) ** 2 + np.abs(e_z) ** 2) / (2.0 * ETA0)
+    s_e = (np.abs(e_rho) ** 2 + np.abs(e_z) ** 2) / (2.0 * ETA0)
+    if not with_h:
+        return s_e
+    h_phi = moments @ ((1j * k / _FOUR_PI) * sn / rr * (1.0 + inv) * ph)
+    return s_e, ETA0 * np.abs(h_phi) ** 2 / 2.0
 
 
 # -- sine and cosine in one go, vectorisable ------------------------------------------------
@@ -132,16 +139,20 @@ BLOCK = 128
 
 @_jit(cache=True, inline="always")
 def _column_block(rho, zp, n, z_m, m_re, m_im, k, eta, acc):  # pragma: no cover - compiled
-    """``acc[0:4, i]`` := Re, Im of ``E_rho`` and ``E_z`` of the column at ``(rho[i], zp[i])``,
-    ``i < n``; element by element over the column, the inner loop over points (vectorises)."""
+    """``acc[0:6, i]`` := Re, Im of ``E_rho``, ``E_z`` and ``H_phi`` of the column at
+    ``(rho[i], zp[i])``, ``i < n``; element by element over the column, the inner loop over
+    points (vectorises)."""
     a_r = eta / (2.0 * math.pi)
     a_t = eta * k / (4.0 * math.pi)
+    a_h = k / (4.0 * math.pi)
     inv_k = 1.0 / k
     for i in range(n):
         acc[0, i] = 0.0
         acc[1, i] = 0.0
         acc[2, i] = 0.0
         acc[3, i] = 0.0
+        acc[4, i] = 0.0
+        acc[5, i] = 0.0
     for j in range(z_m.size):
         zj = z_m[j]
         mr = m_re[j]
@@ -177,25 +188,40 @@ def _column_block(rho, zp, n, z_m, m_re, m_im, k, eta, acc):  # pragma: no cover
             acc[1, i] += mr * gr_im + mi * gr_re
             acc[2, i] += mr * gz_re - mi * gz_im
             acc[3, i] += mr * gz_im + mi * gz_re
+            # H_phi / p = j a_h s / R (1 - j/kr) e^{-jkr}
+            fh = a_h * sn * inv
+            w_re = cph + ikr * sph
+            w_im = sph - ikr * cph
+            h_re = -fh * w_im
+            h_im = fh * w_re
+            acc[4, i] += mr * h_re - mi * h_im
+            acc[5, i] += mr * h_im + mi * h_re
 
 
 @_jit(cache=True, inline="always")
 def _block_density(acc, i, eta):  # pragma: no cover - compiled
-    """Plane-wave-equivalent density of the summed field of point ``i`` of a block."""
+    """Plane-wave-equivalent density of the summed electric field of point ``i`` of a block."""
     return (acc[0, i] * acc[0, i] + acc[1, i] * acc[1, i] + acc[2, i] * acc[2, i]
             + acc[3, i] * acc[3, i]) / (2.0 * eta)
 
 
+@_jit(cache=True, inline="always")
+def _block_density_h(acc, i, eta):  # pragma: no cover - compiled
+    """``eta |H_rms|^2`` of the summed magnetic field of point ``i`` of a block."""
+    return eta * (acc[4, i] * acc[4, i] + acc[5, i] * acc[5, i]) / 2.0
+
+
 @_jit(parallel=True, cache=True, fastmath={"contract"})
-def _column_kernel(rho, za, z_m, m_re, m_im, k, eta, out):  # pragma: no cover - compiled
+def _column_kernel(rho, za, z_m, m_re, m_im, k, eta, out, out_h):  # pragma: no cover - compiled
     n_pt = rho.size
     for b in _prange((n_pt + BLOCK - 1) // BLOCK):
         p0 = b * BLOCK
         n = min(n_pt, p0 + BLOCK) - p0
-        acc = np.empty((4, BLOCK))
+        acc = np.empty((6, BLOCK))
         _column_block(rho[p0:p0 + n], za[p0:p0 + n], n, z_m, m_re, m_im, k, eta, acc)
         for i in range(n):
             out[p0 + i] = _block_density(acc, i, eta)
+            out_h[p0 + i] = _block_density_h(acc, i, eta)
 
 
 def phase_in_range(k: float, r_max_m: float) -> bool:
@@ -204,7 +230,7 @@ def phase_in_range(k: float, r_max_m: float) -> bool:
     return bool(np.isfinite(r_max_m)) and k * r_max_m <= SINCOS_MAX_RAD
 
 
-def column_density(rho, za, z_m, moments, wavelength_m) -> np.ndarray:
+def column_density(rho, za, z_m, moments, wavelength_m, with_h: bool = False):
     """Density of the column without its element factor, compiled when numba is present. [W/m^2]
 
     Same arguments and result as :func:`column_density_reference`.
@@ -216,11 +242,12 @@ def column_density(rho, za, z_m, moments, wavelength_m) -> np.ndarray:
     k = _TWO_PI / wavelength_m
     r_max = _max_distance(rho, za, z)
     if not (fast_available() and phase_in_range(k, r_max)):
-        return column_density_reference(rho, za, z, m, wavelength_m)
+        return column_density_reference(rho, za, z, m, wavelength_m, with_h)
     out = np.empty(rho.size)
+    out_h = np.empty(rho.size)
     _column_kernel(rho, za, z, np.ascontiguousarray(m.real), np.ascontiguousarray(m.imag),
-                   k, ETA0, out)
-    return out
+                   k, ETA0, out, out_h)
+    return (out, out_h) if with_h else out
 
 
 def _max_distance(rho, za, z_m) -> float:
@@ -233,7 +260,7 @@ def _max_distance(rho, za, z_m) -> float:
 
 @_jit(parallel=True, cache=True, fastmath={"contract"})
 def _fused_kernel(xa, ya, za, z_m, m_re, m_im, k, eta, near_t, far_t, corr, r_ff,
-                  r_react, clearance, refl, s_out, ok_out):  # pragma: no cover - compiled
+                  r_react, clearance, refl, s_out, h_out, ok_out):  # pragma: no cover - compiled
     n_pt = xa.size
     n_sub = z_m.size
     n_phi = near_t.shape[0]
@@ -251,7 +278,7 @@ def _fused_kernel(xa, ya, za, z_m, m_re, m_im, k, eta, near_t, far_t, corr, r_ff
         xd = np.empty(BLOCK)
         yd = np.empty(BLOCK)
         fac = np.empty(BLOCK)
-        acc = np.empty((4, BLOCK))
+        acc = np.empty((6, BLOCK))
         # geometry, selects only (vectorises): distances, the mask, pattern angles [deg]
         for i in range(n):
             x = xa[p0 + i]
@@ -302,6 +329,7 @@ def _fused_kernel(xa, ya, za, z_m, m_re, m_im, k, eta, near_t, far_t, corr, r_ff
         _column_block(rho, zb, n, z_m, m_re, m_im, k, eta, acc)
         for i in range(n):
             s_out[p0 + i] = _block_density(acc, i, eta) * fac[i]
+            h_out[p0 + i] = _block_density_h(acc, i, eta) * fac[i]
 
 
 def fused_power_density(model, xa, ya, za) -> tuple[np.ndarray, np.ndarray] | None:
@@ -319,8 +347,9 @@ def fused_power_density(model, xa, ya, za) -> tuple[np.ndarray, np.ndarray] | No
 
     Returns
     -------
-    s_w_m2, assessable : ndarray
-        As :meth:`siteexposure.physics.array.ArraySynthesis.power_density`. [W/m^2], [bool]
+    s_w_m2, assessable, s_h_w_m2 : ndarray
+        As :meth:`siteexposure.physics.array.ArraySynthesis.fields`: E-field density,
+        assessable, H-field density. [W/m^2], [bool], [W/m^2]
     """
     xa, ya, za = (np.ascontiguousarray(v, dtype=float).ravel() for v in (xa, ya, za))
     z_m = np.ascontiguousarray(model.z_m, dtype=float)
@@ -329,6 +358,7 @@ def fused_power_density(model, xa, ya, za) -> tuple[np.ndarray, np.ndarray] | No
         return None
     n = xa.size
     s = np.empty(n)
+    h = np.empty(n)
     ok = np.empty(n, dtype=np.bool_)
     m = np.asarray(model.moments, dtype=complex)
     _fused_kernel(xa, ya, za, z_m, np.ascontiguousarray(m.real), np.ascontiguousarray(m.imag),
@@ -337,5 +367,5 @@ def fused_power_density(model, xa, ya, za) -> tuple[np.ndarray, np.ndarray] | No
                   np.ascontiguousarray(model.element_table_far, dtype=float),
                   np.ascontiguousarray(model.vertical_correction, dtype=float),
                   float(model.far_field_range_m), float(model.reactive_radius_m),
-                  float(model.column_clearance_m), float(model.reflection_factor), s, ok)
-    return s, ok
+                  float(model.column_clearance_m), float(model.reflection_factor), s, h, ok)
+    return s, ok, h

@@ -22,6 +22,35 @@ def test_kernel_equals_reference(n_sub, n_pt, lam, seed):
     assert np.allclose(got, ref, rtol=1e-9, atol=0)
 
 
+@settings(max_examples=20, deadline=None)
+@given(st.integers(1, 20), st.integers(1, 100), st.floats(0.05, 3.0), st.integers(0, 2**31 - 1))
+def test_kernel_magnetic_field_equals_reference(n_sub, n_pt, lam, seed):
+    rng = np.random.default_rng(seed)
+    z = np.sort(rng.uniform(-1, 1, n_sub))
+    m = rng.normal(size=n_sub) + 1j * rng.normal(size=n_sub)
+    rho = rng.uniform(0.05, 20, n_pt)
+    za = rng.uniform(-10, 10, n_pt)
+    ref_e, ref_h = ak.column_density_reference(rho, za, z, m, lam, with_h=True)
+    got_e, got_h = ak.column_density(rho, za, z, m, lam, with_h=True)
+    assert np.allclose(got_e, ref_e, rtol=1e-9, atol=0)
+    assert np.allclose(got_h, ref_h, rtol=1e-9, atol=0)
+
+
+def test_magnetic_field_of_one_element_is_the_short_dipole_formula():
+    """H_phi = j k I l sin(theta) / (4 pi r) (1 + 1/(j k r)) e^{-jkr} (Balanis 4th ed.
+    eq. 4-10c, from memory): at k r = 1 its density is twice the far-field value, and far out
+    eta |H|^2 equals |E|^2 / eta (a plane wave)."""
+    lam, p = 1.0, 1.5 + 0.5j
+    k = 2 * np.pi / lam
+    th = np.deg2rad(70.0)
+    for r, factor in ((1.0 / k, 2.0), (3000.0, 1.0 + 1.0 / (k * 3000.0) ** 2)):
+        s_e, s_h = ak.column_density(np.array([r * np.sin(th)]), np.array([r * np.cos(th)]),
+                                     np.array([0.0]), np.array([p]), lam, with_h=True)
+        far = ETA0 * (k * abs(p) * np.sin(th) / (4 * np.pi * r)) ** 2 / 2
+        assert s_h[0] == np.float64(s_h[0]) and np.isclose(s_h[0], far * factor, rtol=1e-9)
+    assert np.isclose(s_e[0], s_h[0], rtol=1e-6)
+
+
 def test_far_field_of_one_element_is_the_short_dipole_formula():
     """|E_t| -> eta k I l sin(theta) / (4 pi r) in the far field (Balanis §4.2.2)."""
     lam, p = 1.0, 2.0 + 0.0j
