@@ -2,31 +2,38 @@
 
 Run from the repository root::
 
-    .venv/bin/python tests/data/nec/generate_nec_reference.py            # solve and write all
-    .venv/bin/python tests/data/nec/generate_nec_reference.py --csv-only # rewrite pattern files
+    .venv/bin/python tests/data/nec/generate_nec_reference.py             # solve and write all
+    .venv/bin/python tests/data/nec/generate_nec_reference.py --case lpda # one case
+    .venv/bin/python tests/data/nec/generate_nec_reference.py --csv-only  # rewrite pattern files
+    .venv/bin/python tests/data/nec/generate_nec_reference.py --meta-only # first four: meta keys
 
-For every case this writes
+Cases: the first four (dipole, collinear, panel, panel_tilt6; defined and solved here) and
+the second set (geometry in nec_new_cases.py, solved in nec_new_solve.py; the aperture case
+``dish`` in dish_reference.py). For every case this writes
 
 * ``<case>.npz``: the near-field samples (positions, complex peak E and H phasors in the
   NEC convention, the group each point is judged in, the input power), the far-field cuts
   and the model checks (input impedance, radiated over input power);
 * ``<case>.csv``: the far-field cuts as a "pattern CSV v1" file (what a user would have),
-  written with :func:`siteexposure.readers.pattern_csv.write_pattern_csv`.
+  written with :func:`siteexposure.readers.pattern_csv.write_pattern_csv`;
+* ``<case>_3d.csv`` (panel_tilt6 and the NEC cases of the second set): the same file with the
+  full-sphere gain table appended (pattern3d.py).
 
 Conventions: NEC-2 works with peak phasors and time dependence exp(+j w t); input power is
 ``0.5 Re(V I*)`` summed over the feeds, so a plane-wave-equivalent power density is
 ``|E_peak|^2 / (2 eta0)`` = ``|E_rms|^2 / eta0``. NEC's gain is power gain relative to the
 input power; with perfectly conducting wires it equals directivity.
 
-Geometry frame of every case: antenna axis along +z, boresight (panels) along +x, origin at
-the radiation centre; the pattern files use azimuth clockwise from boresight seen from above
+Geometry frame of every case: antenna axis along +z, boresight (panels) along +x, +y left of
+boresight, origin at the radiation centre (a mast over ground: see nec_case.py); the pattern
+files use azimuth clockwise from boresight seen from above
 (= minus NEC's phi) and elevation = 90 deg - NEC's theta.
 
 References
 ----------
 G. J. Burke and A. J. Poggio, "Numerical Electromagnetics Code (NEC) - Method of Moments",
 Lawrence Livermore National Laboratory, UCID-18834, 1981 (NEC-2 user's guide: GW, EX, RP,
-NE and NH cards).
+NE, NH, GN and TL cards).
 C. A. Balanis, Antenna Theory: Analysis and Design, 4th ed., Wiley, 2016, sec. 4.6
 (half-wave dipole: directivity 1.643 = 2.15 dBi, Zin = 73 + j42.5 ohm).
 """
