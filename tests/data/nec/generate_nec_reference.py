@@ -453,6 +453,12 @@ def main(argv: list[str] | None = None) -> int:
                     help="first four cases: only add the newer meta keys (no new solve)")
     ap.add_argument("--case", action="append", help="limit to these case names")
     args = ap.parse_args(argv)
+    known = [c.name for c in all_cases()] + [c.name for c in new_nec_cases()] + ["dish"]
+    for name in args.case or []:
+        if name not in known:
+            print(f"Error: --case {name!r}: unknown case; expected one of {', '.join(known)}",
+                  file=sys.stderr)
+            return 2
     first = [c for c in all_cases() if not args.case or c.name in args.case]
     new = [c for c in new_nec_cases() if not args.case or c.name in args.case]
     do_dish = not args.case or "dish" in args.case

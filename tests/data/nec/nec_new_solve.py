@@ -235,8 +235,10 @@ def _save(name, meta, xyz, e, h, group, kind, cuts, sphere) -> None:
         az, el, g3 = sphere
         extra = {"sphere_az_deg": az, "sphere_el_deg": el,
                  "sphere_gain_dbi": g3.astype(np.float32)}
+    path = gen.HERE / f"{name}.npz"
+    tmp = path.with_name(path.stem + ".tmp.npz")  # written whole, then renamed
     np.savez_compressed(
-        gen.HERE / f"{name}.npz",
+        tmp,
         meta=np.array(json.dumps(meta)),
         xyz_m=xyz,
         e_peak_v_m=e.astype(np.complex64),
@@ -246,6 +248,7 @@ def _save(name, meta, xyz, e, h, group, kind, cuts, sphere) -> None:
         **cuts,
         **extra,
     )
+    tmp.replace(path)
 
 
 # --------------------------------------------------------------------------- aperture
