@@ -17,7 +17,14 @@ declares not assessable are counted apart: never a pass, never an error figure.
 
 Regions by distance ``r`` from the radiation centre: reactive-adjacent ``lambda/2 <= r <
 lambda``; radiating near field ``lambda <= r < R_ff``; far field ``r >= R_ff`` with ``R_ff =
-max(2 L^2/lambda, 3 lambda, 5 L)``, ``L`` the largest aperture dimension.
+max(2 L^2/lambda, 3 lambda, 5 L)``, ``L`` the largest aperture dimension (for the cases of
+``NEW_CASES``: the largest dimension of the body box, depth included; stored in the meta).
+
+Second set (``NEW_CASES``): the reference quantity for the newer criteria is ``s_ref_w_m2 =
+max(S_E, S_H)`` with ``S_H = eta0 |H_rms|^2``, and the judged mask ``judged_new`` keeps the
+points at least lambda/2 from the origin, at least lambda/(2 pi) from the body box and above
+the ground (where there is one), and of those the ones whose ``s_ref`` is within 20 dB of the
+strongest such point of the same group.
 """
 
 from __future__ import annotations
@@ -31,6 +38,8 @@ import numpy as np
 
 DATA = Path(__file__).resolve().parents[1] / "data" / "nec"
 CASES = ("dipole", "collinear", "panel", "panel_tilt6")
+NEW_CASES = ("yagi3", "yagi6", "lpda", "fm4", "fm4_slant", "short_dipole", "small_loop",
+             "monopole_mf", "dish")
 MODELS = ("far-field", "cylindrical", "array", "auto")
 REGIONS = ("lambda/2..lambda", "radiating near field", "far field")
 JUDGE_DB = 20.0
@@ -47,6 +56,27 @@ class CaseData:
     group: np.ndarray
     region: np.ndarray  # index into REGIONS, -1 closer than lambda/2
     judged: np.ndarray
+    s_h_w_m2: np.ndarray | None = None  # eta0 |H_rms|^2
+    s_ref_w_m2: np.ndarray | None = None  # max(S_E, S_H): the newer criteria's reference
+    body_distance_m: np.ndarray | None = None  # from the body box surface, 0 inside
+    judged_new: np.ndarray | None = None  # see the module docstring
+    kind: np.ndarray | None = None  # point-set code per point (meta["point_sets"] names them)
+
+
+def body_distance(xyz: np.ndarray, body: dict) -> np.ndarray:
+    """Distance of points from the surface of the body box in the meta, 0 inside. [m]"""
+    half = 0.5 * np.array([body["depth_m"], body["width_m"], body["height_m"]], dtype=float)
+    q = np.abs(xyz - np.asarray(body["offset_m"], dtype=float)) - half
+    return np.linalg.norm(np.maximum(q, 0.0), axis=-1)
+
+
+def _within_of_group_max(s: np.ndarray, group: np.ndarray, candidate: np.ndarray) -> np.ndarray:
+    """Candidates whose value is within JUDGE_DB of the largest candidate of their group."""
+    out = np.zeros(s.shape, dtype=bool)
+    for g in np.unique(group[candidate]):
+        sel = (group == g) & candidate
+        out[sel] = s[sel] >= s[sel].max() * 10.0 ** (-JUDGE_DB / 10.0)
+    return out
 
 
 def load_case(name: str) -> CaseData:
@@ -58,7 +88,10 @@ def load_case(name: str) -> CaseData:
         e = np.asarray(d["e_peak_v_m"], dtype=complex)
         h = np.asarray(d["h_peak_a_m"], dtype=complex)
         group = np.asarray(d["group"], dtype=int)
+        kind = np.asarray(d["kind"], dtype=int)
     s_e = np.sum(np.abs(e) ** 2, axis=1) / (2.0 * ETA0)  # peak phasors: |E_rms|^2 = |E|^2/2
+    s_h = ETA0 * np.sum(np.abs(h) ** 2, axis=1) / 2.0  # eta0 |H_rms|^2
+    s_ref = np.maximum(s_e, s_h)
     s_p = np.linalg.norm(0.5 * np.real(np.cross(e, np.conj(h))), axis=1)
     lam = meta["wavelength_m"]
     r = np.linalg.norm(xyz, axis=1)
@@ -68,7 +101,14 @@ def load_case(name: str) -> CaseData:
     for g in np.unique(group):
         sel = group == g
         judged[sel] = s_e[sel] >= s_e[sel].max() * 10.0 ** (-JUDGE_DB / 10.0)
-    return CaseData(name, meta, xyz, s_e, s_p, group, region, judged & (region >= 0))
+    d_body = body_distance(xyz, meta["body"])
+    candidate = (r >= 0.5 * lam * (1 - 1e-9)) & (d_body >= lam / (2.0 * np.pi) * (1 - 1e-9))
+    if meta.get("ground_z_m") is not None:
+        candidate &= xyz[:, 2] > meta["ground_z_m"]
+    judged_new = _within_of_group_max(s_ref, group, candidate)
+    return CaseData(name, meta, xyz, s_e, s_p, group, region, judged & (region >= 0),
+                    s_h_w_m2=s_h, s_ref_w_m2=s_ref, body_distance_m=d_body,
+                    judged_new=judged_new, kind=kind)
 
 
 def radiator_for(case: CaseData):

@@ -2,31 +2,38 @@
 
 Run from the repository root::
 
-    .venv/bin/python tests/data/nec/generate_nec_reference.py            # solve and write all
-    .venv/bin/python tests/data/nec/generate_nec_reference.py --csv-only # rewrite pattern files
+    .venv/bin/python tests/data/nec/generate_nec_reference.py             # solve and write all
+    .venv/bin/python tests/data/nec/generate_nec_reference.py --case lpda # one case
+    .venv/bin/python tests/data/nec/generate_nec_reference.py --csv-only  # rewrite pattern files
+    .venv/bin/python tests/data/nec/generate_nec_reference.py --meta-only # first four: meta keys
 
-For every case this writes
+Cases: the first four (dipole, collinear, panel, panel_tilt6; defined and solved here) and
+the second set (geometry in nec_new_cases.py, solved in nec_new_solve.py; the aperture case
+``dish`` in dish_reference.py). For every case this writes
 
 * ``<case>.npz``: the near-field samples (positions, complex peak E and H phasors in the
   NEC convention, the group each point is judged in, the input power), the far-field cuts
   and the model checks (input impedance, radiated over input power);
 * ``<case>.csv``: the far-field cuts as a "pattern CSV v1" file (what a user would have),
-  written with :func:`siteexposure.readers.pattern_csv.write_pattern_csv`.
+  written with :func:`siteexposure.readers.pattern_csv.write_pattern_csv`;
+* ``<case>_3d.csv`` (panel_tilt6 and the NEC cases of the second set): the same file with the
+  full-sphere gain table appended (pattern3d.py).
 
 Conventions: NEC-2 works with peak phasors and time dependence exp(+j w t); input power is
 ``0.5 Re(V I*)`` summed over the feeds, so a plane-wave-equivalent power density is
 ``|E_peak|^2 / (2 eta0)`` = ``|E_rms|^2 / eta0``. NEC's gain is power gain relative to the
 input power; with perfectly conducting wires it equals directivity.
 
-Geometry frame of every case: antenna axis along +z, boresight (panels) along +x, origin at
-the radiation centre; the pattern files use azimuth clockwise from boresight seen from above
+Geometry frame of every case: antenna axis along +z, boresight (panels) along +x, +y left of
+boresight, origin at the radiation centre (a mast over ground: see nec_case.py); the pattern
+files use azimuth clockwise from boresight seen from above
 (= minus NEC's phi) and elevation = 90 deg - NEC's theta.
 
 References
 ----------
 G. J. Burke and A. J. Poggio, "Numerical Electromagnetics Code (NEC) - Method of Moments",
 Lawrence Livermore National Laboratory, UCID-18834, 1981 (NEC-2 user's guide: GW, EX, RP,
-NE and NH cards).
+NE, NH, GN and TL cards).
 C. A. Balanis, Antenna Theory: Analysis and Design, 4th ed., Wiley, 2016, sec. 4.6
 (half-wave dipole: directivity 1.643 = 2.15 dBi, Zin = 73 + j42.5 ohm).
 """
@@ -37,31 +44,16 @@ import argparse
 import json
 import sys
 import time
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 
 HERE = Path(__file__).resolve().parent
-C0 = 299792458.0  # only for building geometry in metres; the tests use siteexposure.constants
+if str(HERE) not in sys.path:
+    sys.path.insert(0, str(HERE))
 
-
-@dataclass
-class Case:
-    """One reference antenna: wires, feeds and the facts a user would know about it."""
-
-    name: str
-    frequency_mhz: float
-    description: str
-    wires: list = field(default_factory=list)  # (tag, nseg, x1, y1, z1, x2, y2, z2, radius)
-    feeds: list = field(default_factory=list)  # (tag, segment, complex voltage)
-    aperture_height_m: float = 0.0
-    aperture_width_m: float = 0.0
-    electrical_tilt_deg: float = 0.0
-
-    @property
-    def wavelength_m(self) -> float:
-        return C0 / (self.frequency_mhz * 1e6)
+from nec_case import C0, Case  # noqa: E402,F401  (C0 kept importable from here)
+from nec_points import AZ_STEP_DEG, SHELL_ELEV_DEG  # noqa: E402
 
 
 def dipole_case() -> Case:
@@ -151,15 +143,21 @@ def all_cases() -> list[Case]:
 
 
 def build_context(case: Case):
-    """A solved PyNEC context for ``case`` (free space, perfectly conducting wires)."""
+    """A solved PyNEC context for ``case`` (perfectly conducting wires; free space, or a
+    perfectly conducting ground plane at NEC z = 0 when ``case.ground``: GE with the ground
+    flag and GN 1; transmission lines from ``case.tls`` as TL cards)."""
     import PyNEC
 
     ctx = PyNEC.nec_context()
     geo = ctx.get_geometry()
     for tag, nseg, x1, y1, z1, x2, y2, z2, rad in case.wires:
         geo.wire(tag, nseg, x1, y1, z1, x2, y2, z2, rad, 1.0, 1.0)
-    ctx.geometry_complete(0)
+    ctx.geometry_complete(1 if case.ground else 0)
+    if case.ground:
+        ctx.gn_card(1, 0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0)
     ctx.fr_card(0, 1, case.frequency_mhz, 0.0)
+    for card in case.tls:
+        ctx.tl_card(*card)
     for tag, seg, v in case.feeds:
         ctx.ex_card(0, tag, seg, 0, v.real, v.imag, 0.0, 0.0, 0.0, 0.0)
     ctx.xq_card(0)
@@ -210,11 +208,6 @@ def far_field_cuts(ctx, first_index: int) -> dict:
 
 # --------------------------------------------------------------------------- sample points
 
-SHELL_ELEV_DEG = np.array(
-    [-90, -60, -40, -30, -20, -15, -12, -9, -6, -4, -2, 0, 2, 4, 6, 9, 12, 15, 20, 30, 40, 60, 90],
-    dtype=float,
-)
-AZ_STEP_DEG = 15.0
 NULL_FLOOR_DB = 60.0  # pattern files: gains floored at peak - 60 dB (NEC's nulls are -999.99)
 
 
@@ -355,54 +348,147 @@ def pynec_version() -> str:
 
 
 def write_pattern_file(name: str) -> Path:
-    """Write ``<name>.csv`` (pattern CSV v1) from the cuts stored in ``<name>.npz``."""
-    from siteexposure.readers.pattern_csv import write_pattern_csv
+    """Write ``<name>.csv`` (pattern CSV v1) from the cuts stored in ``<name>.npz``, and
+    ``<name>_3d.csv`` (the same cuts plus the full-sphere table) where the npz holds one."""
+    from pattern3d import check_table, floored, table_text
+
+    from siteexposure.readers.pattern_csv import format_pattern_csv, write_pattern_csv
 
     with np.load(HERE / f"{name}.npz") as d:
         meta = json.loads(str(d["meta"]))
         cuts = {k: np.asarray(d[k]) for k in d.files if k.startswith(("h_", "v_"))}
+        sphere = ({k: np.asarray(d[k], dtype=float) for k in
+                   ("sphere_az_deg", "sphere_el_deg", "sphere_gain_dbi")}
+                  if "sphere_gain_dbi" in d.files else None)
     path = HERE / f"{name}.csv"
-    floor = meta["peak_gain_dbi"] - NULL_FLOOR_DB
-
-    def db(key):  # NEC reports exact nulls as -999.99 dB: floor them like a measured file
-        return np.round(np.maximum(cuts[key], floor), 2)
-
-    write_pattern_csv(
-        path,
-        peak_gain_dbi=round(meta["peak_gain_dbi"], 2),
-        h_angle_deg=cuts["h_angle_deg"],
-        h_gain_dbi=db("h_gain_dbi"),
-        v_front_elev_deg=cuts["v_front_elev_deg"],
-        v_front_gain_dbi=db("v_front_gain_dbi"),
-        v_back_elev_deg=cuts["v_back_elev_deg"],
-        v_back_gain_dbi=db("v_back_gain_dbi"),
+    peak = meta["peak_gain_dbi"]
+    written = {k: (floored(v, peak, NULL_FLOOR_DB) if k.endswith("_dbi") else v)
+               for k, v in cuts.items()}  # NEC's exact nulls (-999.99 dB) floored like a file
+    origin = "NEC reference" if meta.get("kind") != "aperture" else "aperture-integral reference"
+    args = dict(
+        peak_gain_dbi=round(peak, 2),
+        h_angle_deg=written["h_angle_deg"],
+        h_gain_dbi=written["h_gain_dbi"],
+        v_front_elev_deg=written["v_front_elev_deg"],
+        v_front_gain_dbi=written["v_front_gain_dbi"],
+        v_back_elev_deg=written["v_back_elev_deg"],
+        v_back_gain_dbi=written["v_back_gain_dbi"],
         metadata={
-            "name": f"NEC reference {name}",
+            "name": f"{origin} {name}",
             "frequency_mhz": meta["frequency_mhz"],
             "electrical_tilt_deg": meta["electrical_tilt_deg"],
         },
     )
+    write_pattern_csv(path, **args)
+    if sphere is not None:
+        from siteexposure.atomic import write_text
+
+        g3 = floored(sphere["sphere_gain_dbi"], peak, NULL_FLOOR_DB)
+        problems = check_table(sphere["sphere_az_deg"], sphere["sphere_el_deg"], g3,
+                               round(peak, 2), written)
+        if problems:
+            raise RuntimeError(f"{name}_3d.csv: " + "; ".join(problems))
+        text = format_pattern_csv(**args) + table_text(sphere["sphere_az_deg"],
+                                                       sphere["sphere_el_deg"], g3)
+        write_text(HERE / f"{name}_3d.csv", text)
     return path
 
 
+# --------------------------------------------------------------------------- first four: meta
+
+FIRST_KINDS = {"dipole": "dipole", "collinear": "collinear", "panel": "panel",
+               "panel_tilt6": "panel"}
+SPHERE_FOR = ("panel_tilt6",)  # first-four cases that get a full-sphere table too
+
+
+def augment_first_four(case: Case) -> dict:
+    """Add the second-set meta keys (body box, polarization, kind, ground, point-set names,
+    group labels) to a stored first-four case, and for ``panel_tilt6`` the full-sphere gain
+    grid from a fresh solve. The stored points and fields are copied unchanged."""
+    from nec_case import body_box
+    from nec_points import KIND_NAMES
+    from nec_points import far_field_range_m as r_ff_body
+    from pattern3d import nec_sphere
+
+    path = HERE / f"{case.name}.npz"
+    with np.load(path) as d:
+        arrays = {k: np.asarray(d[k]) for k in d.files}
+    meta = json.loads(str(arrays.pop("meta")))
+    body = body_box(case)
+    r_ff = r_ff_body(case.wavelength_m, body)
+    if abs(r_ff / meta["far_field_range_m"] - 1.0) > 2e-3:
+        raise RuntimeError(f"{case.name}: far-field range with the body box {r_ff} m differs "
+                           f"from the stored {meta['far_field_range_m']} m")
+    labels = [f"sphere r = {r:.4g} m" for r in shell_ranges_m(case)]
+    labels += [f"cylinder about the z axis, {rho:.4g} m" for rho in cylinder_samples(case)[0]]
+    meta.update({
+        "kind": FIRST_KINDS[case.name],
+        "polarization": "vertical",
+        "body": body,
+        "ground_z_m": None,
+        "far_field_range_body_m": r_ff,
+        "point_sets": {str(k): v for k, v in KIND_NAMES.items()},
+        "group_labels": labels,
+    })
+    if case.name in SPHERE_FOR:
+        ctx = build_context(case)
+        az, el, g3 = nec_sphere(ctx, 0)
+        arrays.update(sphere_az_deg=az, sphere_el_deg=el, sphere_gain_dbi=g3.astype(np.float32))
+    tmp = path.with_name(path.stem + ".tmp.npz")
+    np.savez_compressed(tmp, meta=np.array(json.dumps(meta)), **arrays)
+    with np.load(tmp) as d:  # the stored fields must be untouched
+        for k in ("xyz_m", "e_peak_v_m", "h_peak_a_m", "group", "kind"):
+            if not np.array_equal(d[k], arrays[k]):
+                raise RuntimeError(f"{case.name}: {k} changed while adding meta keys")
+    tmp.replace(path)
+    return meta
+
+
 def main(argv: list[str] | None = None) -> int:
+    from nec_new_cases import new_nec_cases
+
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--csv-only", action="store_true", help="only rewrite the pattern files")
+    ap.add_argument("--meta-only", action="store_true",
+                    help="first four cases: only add the newer meta keys (no new solve)")
     ap.add_argument("--case", action="append", help="limit to these case names")
     args = ap.parse_args(argv)
-    cases = [c for c in all_cases() if not args.case or c.name in args.case]
-    for case in cases:
+    known = [c.name for c in all_cases()] + [c.name for c in new_nec_cases()] + ["dish"]
+    for name in args.case or []:
+        if name not in known:
+            print(f"Error: --case {name!r}: unknown case; expected one of {', '.join(known)}",
+                  file=sys.stderr)
+            return 2
+    first = [c for c in all_cases() if not args.case or c.name in args.case]
+    new = [c for c in new_nec_cases() if not args.case or c.name in args.case]
+    do_dish = not args.case or "dish" in args.case
+    for case in first:
         if not args.csv_only:
-            meta = solve_case(case)
-            z = meta["feed_impedance_ohm"]
-            print(
-                f"{case.name}: {meta['n_segments']} segments, Zin(feed 1) = {z[0]:.1f}"
-                f"{z[1]:+.1f}j ohm, Prad/Pin = {meta['radiated_over_input']:.4f}, "
-                f"peak {meta['peak_gain_dbi']:.2f} dBi, {meta['seconds']} s",
-                file=sys.stderr,
-            )
+            if not args.meta_only:
+                _report(solve_case(case))
+            augment_first_four(case)
         write_pattern_file(case.name)
+    if args.meta_only:
+        return 0
+    from nec_new_solve import solve_dish, solve_new_case
+
+    for case in new:
+        if not args.csv_only:
+            _report(solve_new_case(case))
+        write_pattern_file(case.name)
+    if do_dish:
+        if not args.csv_only:
+            _report(solve_dish())
+        write_pattern_file("dish")
     return 0
+
+
+def _report(meta: dict) -> None:
+    z = meta.get("feed_impedance_ohm")
+    zt = f"Zin(feed 1) = {z[0]:.4g}{z[1]:+.4g}j ohm, " if z else ""
+    print(f"{meta['name']}: {meta.get('n_segments', '-')} segments, {zt}"
+          f"Prad/Pin = {meta['radiated_over_input']:.4f}, peak {meta['peak_gain_dbi']:.2f} dBi, "
+          f"{meta['seconds']} s", file=sys.stderr)
 
 
 if __name__ == "__main__":
