@@ -181,9 +181,9 @@ def distance_result(
     else:
         from siteexposure.errors import InputError
         from siteexposure.physics.cylindrical import power_consistent_beamwidth_deg
+        from siteexposure.physics.keepout import KeepOutSearch
         from siteexposure.physics.patterns import parametric_pattern
         from siteexposure.physics.radiator import Radiator
-        from siteexposure.physics.keepout import KeepOutSearch
         from siteexposure.physics.sources import choose_model, model_notes, standoff_distance_m
 
         inputs["aperture_height_m"] = aperture_height_m

@@ -830,4 +830,13 @@ class ArrayModel:
         return Fields(s_e, s_h)
 
     def validated(self, points_ant) -> np.ndarray:
-        return np.ones(np.asarray(points_ant).shape[:-1], dtype=bool)
+        """Beyond ``lambda/(2 pi)`` from the body; a single thin wire of known current (a
+        short dipole, a monopole) from the stand-off on (method-of-moments validation:
+        tests/data/nec, short_dipole and monopole_mf)."""
+        from siteexposure.physics.regions import reactive_zone_m
+
+        p = np.asarray(points_ant, dtype=float)
+        if getattr(self.built, "thin_wire", False):
+            return np.ones(p.shape[:-1], dtype=bool)
+        zone = reactive_zone_m(self.rad.wavelength_m) * (1.0 - 1e-9)
+        return self.rad.body.distance_m(p) >= zone

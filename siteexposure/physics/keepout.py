@@ -19,7 +19,7 @@ whatever the field) is refined by bisection. The exceedance zone of the antenna 
   height relative to it).
 
 Margin: rays are at most :data:`MAX_RAY_SPACING_DEG` apart over the sphere and
-:data:`FINE_STEP_DEG` about the beam; the box, cylinder and distances are widened by what a
+:data:`FINE_STEP_DEG` (azimuth, elevation) about the beam; the box, cylinder and distances are widened by what a
 zone could reach between neighbouring rays, for the
 ray spacing ``delta`` at the outermost radius ``r`` found, ``r sin(delta/2)`` (the farthest
 a direction is from its nearest ray); ``tests/robustness/test_keep_out_encloses.py`` samples
@@ -38,11 +38,11 @@ from siteexposure.physics.farfield import far_field_distance_for_density_m
 from siteexposure.physics.orientation import antenna_axes, direction_from_angles
 
 DIRECTIONS = ("front", "behind", "left", "right", "above", "below")
-N_SPHERE_RAYS = 3000
-MAX_RAY_SPACING_DEG = 4.0  #: about the spacing of N_SPHERE_RAYS Fibonacci rays (3.7 deg)
-FINE_STEP_DEG = 0.5
+N_SPHERE_RAYS = 1500
+MAX_RAY_SPACING_DEG = 5.6  #: about the spacing of N_SPHERE_RAYS Fibonacci rays (5.2 deg)
+FINE_STEP_DEG = (2.0, 1.0)  #: azimuth, elevation steps of the fan about the beam
 FINE_HALF_WIDTH_DEG = (60.0, 15.0)  #: azimuth, elevation half-widths of the fan about the beam
-N_RADII = 96
+RADIUS_RATIO = 1.15  #: ratio of neighbouring radii of the sample grid on each ray
 REFINE_ROUNDS = 7
 
 
@@ -129,18 +129,23 @@ class KeepOutSearch:
         sphere = _fibonacci(N_SPHERE_RAYS)
         p0, e0 = self.beam
         dp = np.deg2rad(np.arange(-FINE_HALF_WIDTH_DEG[0], FINE_HALF_WIDTH_DEG[0] + 1e-9,
-                                  4.0 * FINE_STEP_DEG))
+                                  FINE_STEP_DEG[0]))
         de = np.deg2rad(np.arange(-FINE_HALF_WIDTH_DEG[1], FINE_HALF_WIDTH_DEG[1] + 1e-9,
-                                  FINE_STEP_DEG))
+                                  FINE_STEP_DEG[1]))
         el = np.clip(e0 + de, -np.pi / 2, np.pi / 2)
         fan = direction_from_angles(p0 + dp[:, None], el[None, :]).reshape(-1, 3) @ self.axes
         crew = np.array(list(keep_out_directions_enu(self.rad.azimuth_deg).values()))
         dirs = np.vstack([sphere, fan, crew, self.beam_enu[None, :]])
-        spacing = np.concatenate([
-            np.full(len(sphere), np.deg2rad(MAX_RAY_SPACING_DEG)),
-            np.full(len(fan), np.deg2rad(max(4.0 * FINE_STEP_DEG, FINE_STEP_DEG))),
-            np.full(len(crew) + 1, np.deg2rad(MAX_RAY_SPACING_DEG))])
-        return dirs / np.linalg.norm(dirs, axis=1)[:, None], spacing
+        dirs = dirs / np.linalg.norm(dirs, axis=1)[:, None]
+        # a ray inside the fan's window has fan rays at most the fan's step away
+        ant = dirs @ self.axes.T  # antenna-frame components
+        phi = np.arctan2(-ant[:, 1], ant[:, 0])
+        el = np.arcsin(np.clip(ant[:, 2], -1.0, 1.0))
+        d_phi = np.abs((phi - p0 + np.pi) % (2.0 * np.pi) - np.pi)
+        inside = ((d_phi <= np.deg2rad(FINE_HALF_WIDTH_DEG[0]))
+                  & (np.abs(el - e0) <= np.deg2rad(FINE_HALF_WIDTH_DEG[1])))
+        spacing = np.where(inside, np.deg2rad(max(FINE_STEP_DEG)), np.deg2rad(MAX_RAY_SPACING_DEG))
+        return dirs, spacing
 
     def _density(self, points_enu) -> np.ndarray:
         from siteexposure.physics.sources import power_density
@@ -157,17 +162,19 @@ class KeepOutSearch:
         return max(1.5 * r_far + 2.0 * self.body_radius, 4.0 * (self.body_radius + self.standoff))
 
     def _samples(self, r_max: float) -> tuple[np.ndarray, np.ndarray]:
-        key = round(float(np.log2(r_max)), 1)
-        hit = self._radii_cache.get(key)
-        if hit is None:
-            r_max = 2.0**key * 1.08
-            r0 = max(1e-3 * r_max, 0.25 * self.standoff)
-            radii = np.concatenate([[0.0], np.geomspace(r0, r_max, N_RADII - 1)])
+        """Densities on every ray at radii ``r0 q^i`` (one fixed geometric grid, so that two
+        searches of the same antenna share their samples whatever the limit or power), out
+        to at least ``r_max``."""
+        r0 = 0.25 * self.standoff
+        n = max(2, int(np.ceil(np.log(max(r_max, r0) / r0) / np.log(RADIUS_RATIO))) + 1)
+        done = self._radii_cache.get("grid")
+        if done is None or len(done[0]) < n + 1:
+            radii = np.concatenate([[0.0], r0 * RADIUS_RATIO ** np.arange(n)])
             pts = self.centre_enu + radii[None, :, None] * self.dirs[:, None, :]
             s = self._density(pts.reshape(-1, 3)).reshape(len(self.dirs), len(radii))
-            hit = (radii, s)
-            self._radii_cache[key] = hit
-        return hit
+            done = (radii, s)
+            self._radii_cache["grid"] = done
+        return done[0][: n + 1], done[1][:, : n + 1]
 
     # -- the boundary -------------------------------------------------------------------
     def boundary(self, limit_w_m2: float) -> Boundary:

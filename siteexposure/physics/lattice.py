@@ -60,23 +60,21 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from siteexposure.constants import C0, ETA0
+from siteexposure.constants import ETA0
 from siteexposure.errors import InputError
 from siteexposure.physics.array import (
     ENVELOPE_DEG,
     FIT_FLOOR_DB,
-    NULL_HALF_WIDTH_DEG,
     _db,
     _fit_quadratic_phase,
     _fit_taper,
     _lookup,
-    _null_mask,
 )
 from siteexposure.physics.array_kernel import SINCOS_MAX_RAD, _sincos
 from siteexposure.physics.fastpath import _jit, _prange, fast_available
 from siteexposure.physics.orientation import antenna_angles, direction_from_angles, to_antenna_frame
 from siteexposure.physics.pattern_base import dbi_to_linear, linear_to_dbi
-from siteexposure.physics.regions import far_field_range_m
+from siteexposure.physics.regions import far_field_range_m, standoff_m
 
 SMALL_BODY_WL = 0.4  #: below this largest dimension [lambda] a loop is tried for "vertical"
 ENDFIRE_DEPTH_WL = 0.25  #: end-fire rows when the depth is at least this [lambda] ...
@@ -85,6 +83,11 @@ SHORT_COLUMN_WL = 0.75  #: shorter columns carry the thin-wire sinusoidal curren
 COLUMN_SPACING_WL = 0.1  #: element spacing along the column [lambda]
 DEPTH_SPACING_WL = 0.08  #: element spacing along the depth [lambda]
 MAX_COLUMN = 64
+MAX_THIN_WIRE = 400
+#: incoherent fill, a fraction of the lattice's peak intensity radiated in every direction
+#: (-40 dB): a real antenna's nulls are finite, and the correction then has something to
+#: scale where the elements alone have an exact null [1]
+FILL = 1e-4
 MAX_DEPTH = 40
 _BLOCK = 128
 _AZ = np.deg2rad(np.arange(0.0, 360.0, 1.0))
@@ -423,6 +426,9 @@ class SourceLattice:
     far_field_peak_gain_dbi: float
     ground_z_m: float | None
     layout: str
+    fill_w: float = 0.0  #: incoherent fill FILL x peak intensity, scaled: S += fill_w / r^2 [W]
+    #: a single thin wire of known (sinusoidal) current: validated down to the stand-off
+    thin_wire: bool = False
 
     @classmethod
     def from_radiator(cls, rad, cache=None) -> SourceLattice:
@@ -444,7 +450,7 @@ class SourceLattice:
                           ground, float(rad.electrical_tilt_deg))
         shape = cache.get("lattice-shape", key, lambda: _lattice_shape(rad, centre, half, ground),
                           hold=(rad.pattern,))
-        src, me_u, mm_u, near_t, far_t, p_unit, g_model_peak, kind, layout = shape
+        src, me_u, mm_u, near_t, far_t, p_unit, g_model_peak, kind, layout, fill, thin = shape
         boost = max(1.0, float(dbi_to_linear(rad.pattern.peak_gain_dbi)) / g_model_peak)
         scale = math.sqrt(boost * rad.power_w / p_unit) if rad.power_w > 0 else 0.0
         big = body.largest_dimension_m * (2.0 if ground is not None else 1.0)
@@ -452,7 +458,7 @@ class SourceLattice:
                    float(rad.mechanical_tilt_deg), lam, kind, src, me_u * scale, mm_u * scale,
                    near_t, far_t, far_field_range_m(lam, big), float(rad.reflection_factor),
                    float(rad.power_w), boost, float(linear_to_dbi(boost * g_model_peak)),
-                   ground, layout)
+                   ground, layout, fill * scale**2, thin)
 
     def fields(self, points_enu) -> tuple[np.ndarray, np.ndarray]:
         """``F e |E_rms|^2 / eta0`` and ``F e eta0 |H_rms|^2`` at site-frame points. [W/m^2]"""
@@ -465,6 +471,10 @@ class SourceLattice:
             return z, z.copy()
         s_e, s_h = dipole_densities(ant, self.src_m, self.me, self.mm, 2 * np.pi / self.wavelength_m)
         r, phi, theta = antenna_angles(xa, ya, za)
+        with np.errstate(divide="ignore"):
+            fill = self.fill_w / (r * r)  # the incoherent fill that gives nulls their depth
+        s_e = s_e + fill
+        s_h = s_h + fill
         near, far = _lookup(self.near_table, phi, theta, self.far_table)
         beta = np.minimum(1.0, (r / self.far_field_range_m) ** 2)
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
@@ -479,6 +489,7 @@ class SourceLattice:
             return np.zeros(phi.shape)
         n = direction_from_angles(phi, theta).reshape(-1, 3)
         u = far_field_intensity(n, self.src_m, self.me, self.mm, 2 * np.pi / self.wavelength_m)
+        u = u + self.fill_w
         far = _lookup(self.far_table, phi.ravel(), theta.ravel())
         g = 4.0 * np.pi * u * far / self.power_w
         if self.ground_z_m is not None:
@@ -503,7 +514,13 @@ def _lattice_shape(rad, centre, half, ground) -> tuple:
     length = float(size[axis])
     if ground is not None:
         length = 2.0 * float(size[2])  # the monopole and its image: one dipole of twice the height
-    n_col = int(np.clip(math.ceil(length / (COLUMN_SPACING_WL * lam) - 1e-9), 1, MAX_COLUMN))
+    thin_wire = (kind in ("e_z", "e_y") and not endfire
+                 and (length < SHORT_COLUMN_WL * lam or ground is not None))
+    spacing = COLUMN_SPACING_WL * lam
+    if thin_wire:  # points are assessed from the stand-off on: elements at most half that apart
+        spacing = min(spacing, 0.5 * standoff_m(lam))
+    n_col = int(np.clip(math.ceil(length / spacing - 1e-9), 1,
+                        MAX_THIN_WIRE if thin_wire else MAX_COLUMN))
     n_col = max(n_col, 5) if length > 0 else 1
     step = length / n_col if length > 0 else 0.0
     s = (np.arange(n_col) + 0.5) * step - 0.5 * length
@@ -572,21 +589,17 @@ def _lattice_shape(rad, centre, half, ground) -> tuple:
     phi_g, el_g = np.meshgrid(_AZ, _EL, indexing="ij")
     dirs = direction_from_angles(phi_g, el_g).reshape(-1, 3)
     u_lat = far_field_intensity(dirs, src, me, mm, k).reshape(phi_g.shape)
-    g_pat = np.asarray(pattern.gain(phi_g, el_g), dtype=float)
-    if not np.all(np.isfinite(g_pat)):
-        raise InputError(f"pattern '{getattr(pattern, 'name', '?')}': 3-D gain is not finite; "
-                         "expected a usable gain pattern")
-    if ground is not None:
-        g_pat = np.where(el_g < 0, 0.0, g_pat)
-    far_db, near_db = _correction(g_pat, u_lat, ground is not None)
+    fill = FILL * float(u_lat.max())
+    far_db = correction_db(pattern, u_lat + fill, ground is not None)
+    far_db -= far_db.max()
     far_t = 10.0 ** (far_db / 10.0)
-    near_t = 10.0 ** (near_db / 10.0)
-    p_unit, u_peak = _sphere_integral(src, me, mm, k, far_t, ground is not None)
+    near_t = 10.0 ** (_envelope(far_db) / 10.0)
+    p_unit, u_peak = _sphere_integral(src, me, mm, k, far_t, ground is not None, fill)
     g_model_peak = 4.0 * np.pi * u_peak / p_unit
     layout = (f"{kind.replace('_', ' ')} elements ({_KIND_WORDS[kind]}): "
               f"{n_col} along the {'xyz'[axis]} axis" + (f" x {x.size} rows" if endfire else "")
               + "; " + ", ".join(how))
-    return src, me, mm, near_t, far_t, p_unit, g_model_peak, kind, layout
+    return src, me, mm, near_t, far_t, p_unit, g_model_peak, kind, layout, fill, thin_wire
 
 
 _KIND_WORDS = {"e_z": "vertical current", "e_y": "horizontal current",
@@ -594,33 +607,69 @@ _KIND_WORDS = {"e_z": "vertical current", "e_y": "horizontal current",
                "circular": "crossed currents in quadrature"}
 
 
-def _correction(g_pat, u_lat, half_space: bool) -> tuple[np.ndarray, np.ndarray]:
-    """``e_far`` (dB) = pattern over the lattice's far field, both normalised to their peaks,
-    null regions interpolated in elevation; ``e_near`` its upper envelope over +-5 deg. [dB]"""
-    lo = -FIT_FLOOR_DB
-    gp = _db(g_pat)
-    gp = np.maximum(gp - gp.max(), lo)
-    gl = _db(u_lat)
-    gl = np.maximum(gl - gl.max(), lo)
-    far = gp - gl
-    bad = _null_mask(gp, NULL_HALF_WIDTH_DEG, 1.0) | _null_mask(gl, NULL_HALF_WIDTH_DEG, 1.0)
-    bad |= (gp <= lo + 1e-9) & (gl <= lo + 1e-9)
+def _cut_db(pattern, which: str, angles) -> np.ndarray:
+    """A cut of the pattern in dBi: the file's own cuts where it has them, else its 3-D gain
+    on the cut plane (``which`` = horizontal | front | back)."""
+    if hasattr(pattern, "horizontal_cut") and hasattr(pattern, "vertical_cut"):
+        if which == "horizontal":
+            return np.asarray(pattern.horizontal_cut(angles), dtype=float)
+        return np.asarray(pattern.vertical_cut(angles, which), dtype=float)
+    if which == "horizontal":
+        return _pattern_db(pattern, angles, np.zeros_like(angles))
+    phi = np.zeros_like(angles) if which == "front" else np.full_like(angles, np.pi)
+    return _pattern_db(pattern, phi, angles)
+
+
+def correction_db(pattern, u_eff, half_space: bool) -> np.ndarray:
+    """The far-field correction ``c(phi, el)`` [dB] on the 1 deg grid: pattern over lattice.
+
+    With a full-sphere table in the pattern file, ``c = G_3d - U`` everywhere. With cuts only,
+    ``c`` is exact on the three cut planes (horizontal cut ``c_h``, front and back vertical
+    cuts ``c_vf``, ``c_vb``) and interpolated between them, so that off the cut planes the
+    lattice's own physics (its elements' polarisation and array factors) shapes the pattern
+    rather than a synthesis rule of the cuts::
+
+        c_v(phi, el) = (1 - w) c_vf(el) + w c_vb(el),   w = sin^2(phi/2)
+        c(phi, el)   = c_v(phi, el) + cos^2(el) [c_h(phi) - c_v(phi, 0)]
+
+    (our construction, in the spirit of the 3GPP TR 38.901 additive rule applied to the
+    correction instead of the gain). Gains are floored 40 dB below the peak. Over a ground
+    plane the lower half mirrors the upper.
+    """
+    floor = 40.0
+    lat = 10.0 * np.log10(u_eff)
+    sphere = getattr(pattern, "sphere", None)
+    if sphere is not None:
+        g = _pattern_db(pattern, _AZ[:, None], _EL[None, :])
+        c = np.maximum(g, g.max() - floor) - lat
+    else:
+        gh = _cut_db(pattern, "horizontal", _AZ)
+        gf = _cut_db(pattern, "front", _EL)
+        gb = _cut_db(pattern, "back", _EL)
+        top = max(gh.max(), gf.max(), gb.max())
+        gh, gf, gb = (np.maximum(v, top - floor) for v in (gh, gf, gb))
+        c_h = gh - lat[:, 90]
+        c_vf = gf - lat[0, :]
+        c_vb = gb - lat[180, :]
+        w = np.sin(0.5 * _AZ)[:, None] ** 2
+        c_v = (1.0 - w) * c_vf[None, :] + w * c_vb[None, :]
+        c = c_v + np.cos(_EL)[None, :] ** 2 * (c_h[:, None] - c_v[:, 90:91])
     if half_space:
-        bad[:, : _EL.size // 2] = False
-    x = np.arange(_EL.size, dtype=float)
-    for i in range(far.shape[0]):
-        keep = ~bad[i]
-        if keep.any() and not keep.all():
-            far[i] = np.interp(x, x[keep], far[i, keep])
+        c[:, :90] = c[:, 180:90:-1]
+    return c
+
+
+def _envelope(c_db: np.ndarray) -> np.ndarray:
+    """Upper envelope over +-ENVELOPE_DEG in azimuth (periodic) and elevation. [dB]"""
     m = int(round(ENVELOPE_DEG))
-    pad = np.pad(far, ((m, m), (0, 0)), mode="wrap")
+    pad = np.pad(c_db, ((m, m), (0, 0)), mode="wrap")
     env = np.lib.stride_tricks.sliding_window_view(pad, 2 * m + 1, axis=0).max(axis=-1)
     pad = np.pad(env, ((0, 0), (m, m)), mode="edge")
-    env = np.lib.stride_tricks.sliding_window_view(pad, 2 * m + 1, axis=1).max(axis=-1)
-    return far, env
+    return np.lib.stride_tricks.sliding_window_view(pad, 2 * m + 1, axis=1).max(axis=-1)
 
 
-def _sphere_integral(src, me, mm, k, far_t, half_space: bool) -> tuple[float, float]:
+def _sphere_integral(src, me, mm, k, far_t, half_space: bool, fill: float = 0.0
+                     ) -> tuple[float, float]:
     """Radiated power and peak intensity of the corrected far field (unit moments). [W], [W/sr]
 
     Trapezoidal in azimuth (1 deg) and Gauss-Legendre in ``sin(el)``, enough nodes for the
@@ -640,7 +689,7 @@ def _sphere_integral(src, me, mm, k, far_t, half_space: bool) -> tuple[float, fl
         ph = phi[i0:i0 + 30]
         pg, eg = np.meshgrid(ph, el, indexing="ij")
         dirs = direction_from_angles(pg, eg).reshape(-1, 3)
-        inten = far_field_intensity(dirs, src, me, mm, k).reshape(pg.shape)
+        inten = far_field_intensity(dirs, src, me, mm, k).reshape(pg.shape) + fill
         inten = inten * _lookup(far_t, pg, eg)
         p_tot += float(np.sum(inten * wu[None, :])) * (2.0 * np.pi / phi.size)
         u_max = max(u_max, float(inten.max()))

@@ -18,20 +18,37 @@ from __future__ import annotations
 
 import numpy as np
 
-#: Stand-off from the antenna's body, in wavelengths over 2 pi: closer than
-#: ``STANDOFF_FACTOR * lambda / (2 pi)`` to the body no model here is assessed (the
-#: method-of-moments validation of tests/data/nec measures the models from there out). [1]
-STANDOFF_FACTOR = 1.0
+#: The reactive zone of an element, in wavelengths over 2 pi: beyond
+#: ``REACTIVE_FACTOR * lambda / (2 pi)`` from the body the near-field models are validated
+#: against the method-of-moments references of tests/data/nec for every antenna class. [1]
+REACTIVE_FACTOR = 1.0
+#: Nothing is assessed closer than this to an antenna's body, whatever the frequency: below
+#: about 48 MHz, where lambda/(2 pi) exceeds it, the zone between this and lambda/(2 pi) is
+#: assessed by a model validated there (thin wires of known current) or by the conservative
+#: bound; within it, construction details (feed, insulators, tuning units) and contact
+#: currents, not field strength, decide (common practice: such conductors are fenced). [m]
+MIN_STANDOFF_M = 1.0
+
+
+def reactive_zone_m(wavelength_m: float) -> float:
+    """``lambda/(2 pi)``: within this of the body the field of the nearest element itself
+    dominates (Balanis sec. 4.2: near and far terms of a small dipole are equal at k r = 1). [m]
+    """
+    return REACTIVE_FACTOR * float(wavelength_m) / (2.0 * np.pi)
 
 
 def standoff_m(wavelength_m: float) -> float:
-    """Distance from the antenna's body inside which nothing is assessed, ``lambda/(2 pi)``. [m]
+    """Distance from the antenna's body inside which nothing is assessed,
+    ``min(lambda/(2 pi), MIN_STANDOFF_M)``. [m]
 
-    Points closer than this to the conductors are in the reactive field of the nearest
-    element itself, which depends on construction details (element shape, radome, feed)
-    that no screening input carries.
+    Closer than ``lambda/(2 pi)`` the field depends on construction details (element shape,
+    radome, feed) that no screening input carries, so above about 48 MHz nothing is assessed
+    there; at lower frequencies, where that zone is metres wide (48 m at 1 MHz: a whole
+    broadcast-tower fence line), points from :data:`MIN_STANDOFF_M` out are assessed, by a
+    model where the method-of-moments validation covers it and by the conservative bound
+    elsewhere (:mod:`siteexposure.physics.sources`).
     """
-    return STANDOFF_FACTOR * float(wavelength_m) / (2.0 * np.pi)
+    return min(reactive_zone_m(wavelength_m), MIN_STANDOFF_M)
 
 
 def fresnel_boundary_m(largest_dimension_m: float, wavelength_m: float) -> float:

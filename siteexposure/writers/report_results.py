@@ -21,7 +21,8 @@ from siteexposure.writers.report_context import ReportContext, zone_rows
 from siteexposure.writers.report_layout import bullets, jnum, jpct, metres, para, table, triple
 from siteexposure.writers.report_sections import heading
 
-KEEP_OUT_KEYS = ("front", "behind", "left", "right", "above", "below")
+KEEP_OUT_KEYS = ("along_beam", "front", "behind", "left", "right", "above", "below")
+_KEY_LABELS = {"along_beam": "beam"}
 #: contributions below this share of an area's total are summed in one row
 MINOR_SHARE = 0.01
 #: largest share of the frame height a plan map, and an elevation cut, may take (two cuts
@@ -141,23 +142,35 @@ def _area_table(ctx: ReportContext) -> list:
 
 
 def _keep_out_table(ctx: ReportContext) -> list:
-    rows = []
+    rows, shapes = [], []
     for a in ctx.data["antennas"]:
         for r in a["keep_out_by_limits"]:
             d = r["distance_m"]
             rows.append([a["id"], r["limits"], r["population"], jnum(r["limit_w_m2"]),
                          *[jnum(d.get(k)) for k in KEEP_OUT_KEYS]])
+        for pop, shape in a.get("keep_out_shape_m", {}).items():
+            box, cyl = shape.get("box", {}), shape.get("cylinder", {})
+            shapes.append([a["id"], pop, *[jnum(box.get(k)) for k in
+                                           ("forward", "back", "left", "right", "up", "down")],
+                           jnum(cyl.get("radius")), jnum(cyl.get("down")), jnum(cyl.get("up"))])
     return [
-        para("Distance from each antenna's radiation centre beyond which its own power density "
-             "(this antenna alone) stays below the whole-body limit: front and behind along the "
-             "horizontal boresight azimuth, left and right at right angles to it (seen from "
-             "behind the antenna), above and below along the vertical. 0 means the limit is not "
-             "reached outside the reactive near field. Other antennas add to these fields; the "
-             "maps show the combined zones."),
-        table(["antenna", "limit set", "population", "limit (W/m²)", *[f"{k} (m)" for k in
-                                                                       KEEP_OUT_KEYS]],
-              rows, [1.0, 1.1, 1.3, 1.0, 0.8, 0.8, 0.8, 0.8, 0.8, 0.8], ctx.width,
-              right_cols=(3, 4, 5, 6, 7, 8, 9)),
+        para("How far each antenna's own exceedance of the whole-body limit reaches beyond its "
+             "body (this antenna alone): along its beam as mounted (tilts included), in front "
+             "and behind along the horizontal boresight azimuth, left and right at right angles "
+             "to it (seen from behind the antenna), above and below along the vertical. The "
+             "stand-off about the body (not assessable) is always part of it. Other antennas add "
+             "to these fields; the maps show the combined zones."),
+        table(["antenna", "limit set", "population", "limit (W/m²)",
+               *[f"{_KEY_LABELS.get(k, k)} (m)" for k in KEEP_OUT_KEYS]],
+              rows, [0.9, 1.0, 1.1, 0.9, 0.7, 0.7, 0.7, 0.7, 0.7, 0.7, 0.7], ctx.width,
+              right_cols=(3, 4, 5, 6, 7, 8, 9, 10)),
+        para("Shapes a crew can mark out, holding every set's zone for the population: a box "
+             "aligned with the horizontal boresight (faces measured from the radiation centre) "
+             "and a cylinder about the vertical through the radiation centre."),
+        table(["antenna", "population", "fwd (m)", "back (m)", "left (m)", "right (m)",
+               "up (m)", "down (m)", "radius (m)", "cyl. down (m)", "cyl. up (m)"],
+              shapes, [0.9, 1.1, 0.7, 0.7, 0.7, 0.7, 0.7, 0.7, 0.8, 0.9, 0.8], ctx.width,
+              right_cols=tuple(range(2, 11))),
     ]
 
 

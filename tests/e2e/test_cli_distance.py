@@ -85,14 +85,17 @@ def test_cylindrical_near_field_distance_and_every_direction():
         "cylindrical",
     )
     d = res["distance_m"]
-    assert set(d) == {"boresight", "front", "behind", "left", "right", "above", "below"}
+    assert set(d) == {"boresight", "front", "behind", "left", "right", "above", "below",
+                      "along_beam"}
     expect = 180.0 / 65.0 * 80.0 / (math.pi * 1.4 * 10.0)
-    assert d["front"] == pytest.approx(expect, rel=5e-3)  # HPBW measured on the 3GPP form
+    # from the body (a column, so the same as from the axis) and enclosing the zone: the
+    # ray-spacing margin may add up to 1.7 % (physics/keepout.py)
+    assert expect * (1 - 5e-3) <= d["front"] <= expect * 1.02  # HPBW measured on the 3GPP form
     assert d["front"] < d["boresight"]  # the far field overstates the near-field main beam
     assert res["models"]["directions"]["model_id"] == "oet65-cylindrical"
-    assert res["reactive_radius_m"] == pytest.approx(
-        0.62 * math.sqrt(1.4**3 / (299.792458 / 1950)), rel=1e-6
-    )
+    # the stand-off is lambda/2pi from the body (Balanis 4th ed. sec. 4.2), not the Fresnel
+    # radius 0.62 sqrt(D^3/lambda) about the centre
+    assert res["standoff_m"] == pytest.approx(299.792458 / 1950 / (2 * math.pi), rel=1e-6)
     assert res["pattern"]["model"] == "3gpp-panel"
 
 
@@ -152,4 +155,4 @@ def test_auto_uses_the_array_model_for_a_line_source_and_records_why():
     )
     assert res["models"]["directions"]["model_id"] == "array-synthesis"
     assert res["models"]["directions"]["reason"].startswith("auto")
-    assert res["distance_m"]["front"] > res["reactive_radius_m"]
+    assert res["distance_m"]["front"] > res["standoff_m"]

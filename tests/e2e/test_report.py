@@ -151,7 +151,7 @@ def test_antenna_and_keep_out_numbers_equal_those_of_screen_json(work):
     text = flat(" ".join(pages_text(work["pdf"])))
     for a in work["json"]["antennas"]:
         for key in ("frequency_mhz", "net_power_w", "peak_gain_dbi", "eirp_w", "erp_w",
-                    "azimuth_deg", "reactive_radius_m"):
+                    "azimuth_deg", "standoff_m"):
             assert has_number(text, tok(a[key])), (a["id"], key, a[key])
         for row in a["keep_out_by_limits"]:
             assert has_number(text, tok(row["limit_w_m2"]))

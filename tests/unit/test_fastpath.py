@@ -22,8 +22,8 @@ from hypothesis import strategies as st
 from siteexposure.engine.evaluate import Source, densities
 from siteexposure.errors import InputError, PatternError
 from siteexposure.physics import fastpath
-from siteexposure.physics.exposure import weighted_sums
 from siteexposure.physics.body import to_antenna_frame_points
+from siteexposure.physics.exposure import weighted_sums
 from siteexposure.physics.patterns import parametric_pattern
 from siteexposure.physics.radiator import Radiator
 from siteexposure.physics.regions import standoff_m

@@ -32,10 +32,11 @@ def _site():
         Antenna(id="T1", operator="Op A", position_m=np.array([0.0, 0.0, 3.0]), azimuth_deg=90.0,
                 mechanical_tilt_deg=0.0, electrical_tilt_deg=0.0, frequency_mhz=2000.0,
                 tx_power_w=2500.0, pattern=dipole, model="far-field"),
-        # an aperture makes a reactive near field (not assessable) on the yard's floor
-        Antenna(id="T2", operator="Op B", position_m=np.array([30.0, 20.0, 3.0]), azimuth_deg=0.0,
+        # a 2 m column standing on the yard's floor: its stand-off (not assessable) is on it
+        Antenna(id="T2", operator="Op B", position_m=np.array([30.0, 20.0, 1.02]), azimuth_deg=0.0,
                 mechanical_tilt_deg=0.0, electrical_tilt_deg=0.0, frequency_mhz=2000.0,
-                tx_power_w=50.0, pattern=iso, model="far-field", aperture_height_m=2.0),
+                tx_power_w=50.0, pattern=iso, model="far-field", aperture_height_m=2.0,
+                aperture_width_m=0.6, aperture_depth_m=0.6),
     )
     deck = Area("Deck", "public", 0.0, np.array([[-8, -8], [8, -8], [8, 8], [-8, 8]], float))
     yard = Area("Yard", "worker", 0.0, np.array([[20, 10], [40, 10], [40, 30], [20, 30]], float))
@@ -111,7 +112,7 @@ def test_antenna_point_matches_an_independent_geodesic(fc):
     lon, lat = t2["geometry"]["coordinates"]
     lon_ref, lat_ref, _ = Geod(ellps="WGS84").fwd(LON0, LAT0, math.degrees(math.atan2(30.0, 20.0)), math.hypot(30, 20))
     assert lon == pytest.approx(lon_ref, abs=2e-7) and lat == pytest.approx(lat_ref, abs=2e-7)
-    assert t2["properties"]["height_m"] == 3.0 and t2["properties"]["frequency_mhz"] == 2000.0
+    assert t2["properties"]["height_m"] == 1.02 and t2["properties"]["frequency_mhz"] == 2000.0
     assert t2["properties"]["eirp_w"] == pytest.approx(50.0)
 
 

@@ -31,16 +31,16 @@ def _rad(pattern, power_w=80.0, azimuth=30.0, tilt=0.0, **kw):
 def test_isotropic_far_field_zone_is_a_sphere_of_the_closed_form_radius():
     """OET-65 Ed. 97-01 eq. (3), S = P G F / (4 pi R^2) with G = 1: the zone is a sphere of
     R = sqrt(P F / (4 pi S)); every distance, the box faces and the cylinder radius are at
-    least R and at most the ray-spacing margin (r sin 2 deg) beyond it."""
+    least R and at most the ray-spacing margin (r sin 2.8 deg) beyond it."""
     rad = _rad(parametric_pattern({"model": "isotropic"}), power_w=200.0, reflection_factor=2.56)
     limit = 2.0
     r = np.sqrt(200.0 * 2.56 / (4 * np.pi * limit))
     b = KeepOutSearch(rad, sources.choose_model(rad, "far-field")).boundary(limit)
     for name in DIRECTIONS:
-        assert r * (1 - 1e-6) <= b.distances_m[name] <= r * 1.04, name
-    assert r * (1 - 1e-6) <= b.cylinder_m["radius"] <= r * 1.04
+        assert r * (1 - 1e-6) <= b.distances_m[name] <= r * 1.05, name
+    assert r * (1 - 1e-6) <= b.cylinder_m["radius"] <= r * 1.05
     for face, v in b.box_m.items():
-        assert r * (1 - 1e-6) <= v <= r * 1.04, face
+        assert r * (1 - 1e-6) <= v <= r * 1.05, face
 
 
 def test_tilted_beam_reaches_further_along_the_beam_than_horizontally():
@@ -52,7 +52,7 @@ def test_tilted_beam_reaches_further_along_the_beam_than_horizontally():
     limit = 10.0
     b = KeepOutSearch(rad, sources.choose_model(rad, "far-field")).boundary(limit)
     r_beam = np.sqrt(80.0 * 10 ** (17.0 / 10) / (4 * np.pi * limit))
-    assert r_beam * (1 - 1e-6) <= b.distances_m["along_beam"] <= r_beam * 1.04
+    assert r_beam * (1 - 1e-6) <= b.distances_m["along_beam"] <= r_beam * 1.02
     # the box still holds the beam's tip: down by r sin(10 deg), forward by r cos(10 deg)
     assert b.box_m["down"] >= r_beam * np.sin(np.deg2rad(10.0)) * (1 - 1e-6)
     assert b.box_m["forward"] >= r_beam * np.cos(np.deg2rad(10.0)) * (1 - 1e-6)
@@ -89,7 +89,7 @@ def test_never_exceeded_leaves_only_the_standoff_and_bad_limit_raises():
     b = KeepOutSearch(rad, sources.choose_model(rad, "far-field")).boundary(10.0)
     so = sources.standoff_distance_m(rad)
     for name in DIRECTIONS:  # the stand-off, plus at most the ray-spacing margin
-        assert so * (1 - 1e-6) <= b.distances_m[name] <= so * 1.04
+        assert so * (1 - 1e-6) <= b.distances_m[name] <= so * 1.05
     with pytest.raises(InputError, match="limit"):
         KeepOutSearch(rad, sources.choose_model(rad)).boundary(0.0)
 
