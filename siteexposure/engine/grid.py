@@ -267,6 +267,19 @@ def _part_cells(poly, outline, east, north, inside, res: float) -> tuple[np.ndar
     return part, (np.vstack(reps) if reps else np.zeros((0, 2)))
 
 
+def _surface(poly):
+    """``poly`` itself, or the polygonal part of its repair where its edges cross (the site
+    reader refuses such outlines; a Python caller may still build one)."""
+    import shapely
+    from shapely.geometry import MultiPolygon
+
+    if poly.is_valid:
+        return poly
+    pieces = shapely.get_parts(shapely.get_parts(shapely.make_valid(poly)))  # two levels deep
+    parts = [g for g in pieces if g.geom_type == "Polygon"]
+    return MultiPolygon(parts)
+
+
 def build_grid(area: Area, resolution_m: float) -> AreaGrid:
     """The grid of one area: cell centres, the inside and evaluation masks, and the
     outline samples (see the module docstring)."""
@@ -280,7 +293,7 @@ def build_grid(area: Area, resolution_m: float) -> AreaGrid:
     inside = shapely.intersects_xy(poly, ee, nn)
     if area.access == "none" or not poly.area > 0.0:  # not judged, or no surface to sample
         return AreaGrid(east_m=east, north_m=north, inside=inside, evaluate=_dilate(inside))
-    part, reps = _part_cells(poly, outline, east, north, inside, res)
+    part, reps = _part_cells(_surface(poly), outline, east, north, inside, res)
     samples = np.vstack([outline_points(outline, res), reps])
     # every cell the area covers, and its neighbours, for zones that reach into every part
     return AreaGrid(east_m=east, north_m=north, inside=inside, evaluate=_dilate(inside | part),

@@ -115,9 +115,10 @@ class AreaResult:
                 np.concatenate([cells, samples]))
 
     def cell_max(self, key: Key) -> np.ndarray:
-        """The ratio grid of ``key`` with each outline sample folded into the cell that
-        holds it (the larger value wins): what a map colours, so that no cell looks lower
-        than a point judged in it. NaN samples and not-assessable cells stay as they are."""
+        """The ratio grid of ``key`` with each outline sample folded into the cells that
+        hold it (the larger value wins; a sample on a cell border is in both cells): what a
+        map colours, so that no cell looks lower than a point judged in it. NaN samples and
+        not-assessable cells stay as they are."""
         grid = np.array(self.ratio[key], dtype=float)
         vals = self.sample_ratio.get(key)
         if vals is None or not len(vals):
@@ -125,10 +126,15 @@ class AreaResult:
         res_e = float(self.east_m[1] - self.east_m[0]) if len(self.east_m) > 1 else 1.0
         res_n = float(self.north_m[1] - self.north_m[0]) if len(self.north_m) > 1 else 1.0
         en = np.asarray(self.samples_en, float).reshape(-1, 2)
-        i = np.clip(np.rint((en[:, 0] - self.east_m[0]) / res_e), 0, len(self.east_m) - 1).astype(int)
-        j = np.clip(np.rint((en[:, 1] - self.north_m[0]) / res_n), 0, len(self.north_m) - 1).astype(int)
-        ok = np.isfinite(vals) & np.isfinite(grid[j, i])  # a not-assessable cell stays so
-        np.fmax.at(grid, (j[ok], i[ok]), vals[ok])
+        u = (en[:, 0] - self.east_m[0]) / res_e + 0.5  # cell i spans [i, i + 1) in u
+        v = (en[:, 1] - self.north_m[0]) / res_n + 0.5
+        finite = np.isfinite(vals)
+        for du in (-1e-9, 1e-9):
+            for dv in (-1e-9, 1e-9):
+                i = np.clip(np.floor(u + du), 0, len(self.east_m) - 1).astype(int)
+                j = np.clip(np.floor(v + dv), 0, len(self.north_m) - 1).astype(int)
+                ok = finite & np.isfinite(self.ratio[key][j, i])  # not assessable stays so
+                np.fmax.at(grid, (j[ok], i[ok]), vals[ok])
         return grid
 
 

@@ -186,3 +186,17 @@ def test_the_sample_sites_pass_the_check(sample):
     root = Path(__file__).resolve().parents[2] / "sample_sites"
     with sitegen.soft_warnings_ignored():
         assert _passes(read_site(root / sample))
+
+
+@settings(max_examples=60, deadline=None, derandomize=True, database=None)
+@given(vertices=st.lists(st.tuples(st.floats(-20, 20), st.floats(-20, 20)), min_size=3,
+                         max_size=8),
+       resolution=st.sampled_from([0.1, 0.25, 0.3, 1.0, 1.7, 5.0]))
+def test_outline_sample_count_is_bounded_without_allocation(vertices, resolution):
+    """estimate_samples (constant memory) is never below the outline samples build_grid makes,
+    so the point and memory checks count every averaging line the engine evaluates."""
+    outline = np.array(vertices, dtype=float)
+    area = Area(name="a", access="public", floor_m=0.0, outline_en=outline)
+    built = grid.build_grid(area, resolution)
+    assert grid.estimate_samples(area, resolution) >= len(built.samples_en)
+    assert grid.estimate_columns(area, resolution) >= int(built.evaluate.sum()) + len(built.samples_en)
