@@ -40,7 +40,9 @@ def _ratio(v: float) -> str:
 def write_grid_csv(result: SiteResult, path: Path | str) -> Path:
     """Write the grid CSV of ``result`` to ``path`` atomically and return the path."""
     from siteexposure.atomic import write_text
+    from siteexposure.output_guard import protected_inputs, refuse_input_overwrite
 
+    refuse_input_overwrite([path], protected_inputs(result.site))
     keys = [(sid, pop) for sid in result.site.limits for pop in POPULATIONS]
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")

@@ -748,13 +748,17 @@ def render_maps(
     from siteexposure.engine.orchestrator import build_sources, load_limit_sets
     from siteexposure.engine.sections import adaptive_cut
     from siteexposure.errors import OutputError
+    from siteexposure.output_guard import protected_inputs, refuse_input_overwrite
+    from siteexposure.writers.bundle import GEOJSON_NAME, GRID_CSV_NAME, KML_NAME, output_names
 
     formats = tuple(formats)
     for f in formats:
         if f not in ("png", "svg"):
             raise OutputError(f"map format {f!r}: expected png or svg")
-    out = check_writable_dir(Path(out_dir))
     site = result.site
+    names = [n for n in output_names(site, formats) if n not in (GEOJSON_NAME, KML_NAME, GRID_CSV_NAME)]
+    refuse_input_overwrite([Path(out_dir) / n for n in names], protected_inputs(site))
+    out = check_writable_dir(Path(out_dir))
     plans = [(i, ar) for i, ar in enumerate(result.areas) if ar.evaluated and ar.ratio and ar.area.population]
     total = len(plans) * len(site.limits) + len(site.antennas) * len(site.limits)
     done, written = 0, []
