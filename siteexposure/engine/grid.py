@@ -201,7 +201,9 @@ def estimate_memory_bytes(cells: list[int], n_heights: int, n_sources: int, n_ke
 #: parts of a cell smaller than this fraction of the cell are rounding slivers of an edge
 #: that runs along a cell border, not a part of the area
 _PART_OF_CELL = 1e-9
-_BOX_BATCH = 65_536  #: cells intersected with the outline at once (bounded memory)
+_BOX_BATCH = 65_536  #: at most this many cell squares are built at once (bounded memory)
+_LEAF_CELLS = 256  #: candidate cells intersected with one piece of the area at once
+_LEAF_VERTICES = 64  #: pieces of the area with fewer vertices are not cut down further
 
 
 def _dilate(mask: np.ndarray) -> np.ndarray:
@@ -241,30 +243,61 @@ def _cell_of(points: np.ndarray, east: np.ndarray, north: np.ndarray, res: float
 
 def _part_cells(poly, outline, east, north, inside, res: float) -> tuple[np.ndarray, np.ndarray]:
     """Cells the area covers in part whose centre lies outside it: their mask, and one
-    point inside the area in each (centroid of the part, else a point on its surface)."""
+    point inside the area in each (centroid of the part, else a point on its surface).
+
+    The outline passes through every such cell, so the candidates are the cells within one
+    cell of the outline. Each candidate's square is intersected with the area; the area is
+    first cut down to ever smaller rectangles around the candidates (halving the longer
+    side, as a k-d tree does), so that an outline of many vertices costs about
+    ``vertices x log(candidates)``, not ``vertices x candidates``.
+    """
     import shapely
 
-    # the outline passes through every such cell; a point of the outline within one cell
-    # of it (spacing res/2) lies in it or in one of its eight neighbours
+    # a point of the outline within one cell of a crossed cell (spacing res/2) lies in it
+    # or in one of its eight neighbours
     jj, ii = _cell_of(outline_points(outline, 0.5 * res), east, north, res)
     near = np.zeros(inside.shape, dtype=bool)
     near[jj[jj >= 0], ii[jj >= 0]] = True
     cand_j, cand_i = np.nonzero(_dilate(near) & ~inside)
     part = np.zeros(inside.shape, dtype=bool)
-    reps = []
-    for start in range(0, len(cand_j), _BOX_BATCH):
-        cj, ci = cand_j[start:start + _BOX_BATCH], cand_i[start:start + _BOX_BATCH]
+    found_j, found_i, reps = [], [], []
+    h = 0.5 * res
+    stack = [(poly, cand_j, cand_i)]
+    while stack:
+        geom, cj, ci = stack.pop()
+        if not len(cj) or geom.is_empty:
+            continue
+        if len(cj) > _BOX_BATCH or (len(cj) > _LEAF_CELLS
+                                    and shapely.get_num_coordinates(geom) > _LEAF_VERTICES):
+            # split the candidates across the longer side of their extent, and the area with them
+            wide = np.ptp(ci) >= np.ptp(cj)
+            key = ci if wide else cj
+            cut = np.median(key)
+            for side in (key <= cut, key > cut) if np.ptp(key) else (slice(None),):
+                sj, si = cj[side], ci[side]
+                if not len(sj):
+                    continue
+                rect = shapely.box(east[si.min()] - h, north[sj.min()] - h,
+                                   east[si.max()] + h, north[sj.max()] + h)
+                stack.append((shapely.intersection(geom, rect), sj, si))
+            if np.ptp(key):
+                continue
         x, y = east[ci], north[cj]
-        pieces = shapely.intersection(poly, shapely.box(x - 0.5 * res, y - 0.5 * res,
-                                                        x + 0.5 * res, y + 0.5 * res))
+        pieces = shapely.intersection(geom, shapely.box(x - h, y - h, x + h, y + h))
         keep = shapely.area(pieces) > _PART_OF_CELL * res * res
         pieces = pieces[keep]
         points = shapely.centroid(pieces)
         off = ~shapely.covers(pieces, points)
         points[off] = shapely.point_on_surface(pieces[off])
-        part[cj[keep], ci[keep]] = True
+        found_j.append(cj[keep])
+        found_i.append(ci[keep])
         reps.append(shapely.get_coordinates(points).reshape(-1, 2))
-    return part, (np.vstack(reps) if reps else np.zeros((0, 2)))
+    if not reps:
+        return part, np.zeros((0, 2))
+    fj, fi, pts = np.concatenate(found_j), np.concatenate(found_i), np.vstack(reps)
+    order = np.lexsort((fi, fj))  # row by row, as the grid: the same for every run
+    part[fj, fi] = True
+    return part, pts[order]
 
 
 def _surface(poly):

@@ -33,8 +33,8 @@ A zone agrees with the area's verdict -- our decision
       dropped: it is only the interpolation between the margin ring (outside the area)
       and the cells inside, and the area was not found to exceed there;
     * the part of the area within half a cell (a square of side ``resolution_m``) of each
-      outline sample above the level is added, so a narrow part (a walkway, a ledge, the
-      arm of an L) whose samples exceed is inside the zone.
+      outline sample above the level that the contour leaves out is added, so a narrow
+      part (a walkway, a ledge, the arm of an L) whose samples exceed is inside the zone.
 
     Hence a zone of a level exists exactly where a judged point exceeds that level, and
     the worst point of an exceeding area lies inside its zone.
@@ -348,6 +348,16 @@ def _supported(geom, cells: np.ndarray, samples: np.ndarray, tol: float):
     return _polygonal(shapely.union_all(keep)) if keep else _polygonal(None)
 
 
+def _outside(geom, points: np.ndarray, tol: float) -> np.ndarray:
+    """Which of ``points`` lie farther than ``tol`` from ``geom``."""
+    import shapely
+
+    if geom.is_empty:
+        return np.ones(len(points), dtype=bool)
+    shapely.prepare(geom)
+    return ~shapely.dwithin(geom, shapely.points(points), tol)
+
+
 def _judged(ar: AreaResult, key) -> tuple[np.ndarray, np.ndarray]:
     """Ratios of ``key`` at the inside cell centres and at the outline samples."""
     grid = ar.ratio[key]
@@ -394,7 +404,9 @@ def _area_zones(result: SiteResult, ar: AreaResult) -> list[Zone]:
             geom = _polygonal(_filled(gens[pop], level, np.inf).intersection(outline))
             geom = _supported(geom, cells, samples, tol)
             if len(samples):  # every outline sample above the level lies in the zone
-                geom = _polygonal(geom.union(_sample_patches(samples, res, outline)))
+                out = _outside(geom, samples, tol)
+                if out.any():
+                    geom = _polygonal(geom.union(_sample_patches(samples[out], res, outline)))
             if not unknown[pop].is_empty:
                 geom = _polygonal(geom.union(unknown[pop]))
             if geom.is_empty:
