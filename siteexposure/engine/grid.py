@@ -269,19 +269,16 @@ def _part_cells(poly, outline, east, north, inside, res: float) -> tuple[np.ndar
             continue
         if len(cj) > _BOX_BATCH or (len(cj) > _LEAF_CELLS
                                     and shapely.get_num_coordinates(geom) > _LEAF_VERTICES):
-            # split the candidates across the longer side of their extent, and the area with them
-            wide = np.ptp(ci) >= np.ptp(cj)
-            key = ci if wide else cj
-            cut = np.median(key)
-            for side in (key <= cut, key > cut) if np.ptp(key) else (slice(None),):
+            # halve the candidates' extent along its longer side (both halves hold cells:
+            # distinct cells span more than one row or column), and cut the area with them
+            key = ci if np.ptp(ci) >= np.ptp(cj) else cj
+            cut = 0.5 * (int(key.min()) + int(key.max()))
+            for side in (key <= cut, key > cut):
                 sj, si = cj[side], ci[side]
-                if not len(sj):
-                    continue
                 rect = shapely.box(east[si.min()] - h, north[sj.min()] - h,
                                    east[si.max()] + h, north[sj.max()] + h)
                 stack.append((shapely.intersection(geom, rect), sj, si))
-            if np.ptp(key):
-                continue
+            continue
         x, y = east[ci], north[cj]
         pieces = shapely.intersection(geom, shapely.box(x - h, y - h, x + h, y + h))
         keep = shapely.area(pieces) > _PART_OF_CELL * res * res
@@ -324,9 +321,10 @@ def build_grid(area: Area, resolution_m: float) -> AreaGrid:
     ee, nn = np.meshgrid(east, north)
     poly = shapely.Polygon(outline)
     inside = shapely.intersects_xy(poly, ee, nn)
-    if area.access == "none" or not poly.area > 0.0:  # not judged, or no surface to sample
+    surface = _surface(poly)
+    if area.access == "none" or not surface.area > 0.0:  # not judged, or no surface to sample
         return AreaGrid(east_m=east, north_m=north, inside=inside, evaluate=_dilate(inside))
-    part, reps = _part_cells(_surface(poly), outline, east, north, inside, res)
+    part, reps = _part_cells(surface, outline, east, north, inside, res)
     samples = np.vstack([outline_points(outline, res), reps])
     # every cell the area covers, and its neighbours, for zones that reach into every part
     return AreaGrid(east_m=east, north_m=north, inside=inside, evaluate=_dilate(inside | part),

@@ -104,3 +104,28 @@ def test_a_narrow_arm_gets_a_judged_point_in_every_cell_it_covers():
 def test_an_outline_without_surface_gets_no_samples():
     g = build_grid(_area([[0, 0], [1, 0], [2, 0]]), 0.5)
     assert g.samples_en.shape == (0, 2) and not g.inside.any()
+
+
+def test_part_cells_of_a_many_vertex_outline_equal_the_direct_intersection():
+    """The k-d cutting of the area in engine.grid finds the same cells covered in part, with
+    the same points, as intersecting every cell square with the whole outline (shapely)."""
+    import shapely
+
+    t = np.linspace(0.0, 2.0 * np.pi, 3000, endpoint=False)
+    r = 6.0 + 0.8 * np.sin(17 * t)
+    outline = np.column_stack([r * np.cos(t), r * np.sin(t)])
+    res = 0.3
+    g = build_grid(_area(outline), res)
+    poly = shapely.Polygon(outline)
+    ee, nn = np.meshgrid(g.east_m, g.north_m)
+    boxes = shapely.box(ee - res / 2, nn - res / 2, ee + res / 2, nn + res / 2)
+    area = shapely.area(shapely.intersection(poly, boxes))
+    expected = (area > 1e-9 * res * res) & ~g.inside
+    from siteexposure.engine.grid import outline_points
+
+    reps = g.samples_en[len(outline_points(outline, res)):]
+    assert len(reps) == int(expected.sum()) > 100
+    jj, ii = np.nonzero(expected)  # row by row, as the grid
+    assert np.all(np.abs(reps[:, 0] - g.east_m[ii]) <= res / 2 + 1e-12)
+    assert np.all(np.abs(reps[:, 1] - g.north_m[jj]) <= res / 2 + 1e-12)
+    assert shapely.intersects_xy(poly, reps[:, 0], reps[:, 1]).all()
