@@ -181,7 +181,8 @@ class Engine:
         area = site.areas[0]
         grid = build_grid(area, site.resolution_m)
         jj, ii = np.nonzero(grid.evaluate)
-        self.cols = np.column_stack([grid.east_m[ii], grid.north_m[jj]])
+        # the columns the engine evaluates: the grid (with its margin) and the outline samples
+        self.cols = np.vstack([np.column_stack([grid.east_m[ii], grid.north_m[jj]]), grid.samples_en])
         self.floor = area.floor_m
 
     @property

@@ -28,17 +28,21 @@ def demo(
     from siteexposure.atomic import check_writable_dir
     from siteexposure.cli.report_cmd import build_report
     from siteexposure.engine.orchestrator import evaluate_site
+    from siteexposure.output_guard import check_output_folder
     from siteexposure.readers.site_toml import read_site
+    from siteexposure.writers.bundle import output_names
     from siteexposure.writers.summary import make_console, print_site
 
     console = make_console()
     site_path = resources.sample_sites_dir() / DEMO_SITE
-    check_writable_dir(out)
     site = read_site(site_path)
+    # the demo's own folder holds the report and the maps; none of them may replace an input
+    check_output_folder(out, site, [DEMO_REPORT, *output_names(site)], what="the demo files")
+    check_writable_dir(out)
     console.print(f"Demo: the invented sample site {site_path}", soft_wrap=True)
     res = evaluate_site(site, progress=not no_progress)
     print_site(res, console)
-    written = build_report(res, out / DEMO_REPORT, with_maps=True, progress=not no_progress)
+    written = build_report(res, out / DEMO_REPORT, maps_dir=out, progress=not no_progress)
     console.print()
     console.print(f"[bold]Demo files in {out.resolve()}[/bold]", soft_wrap=True)
     maps = [p for p in written if p.suffix.lower() in (".png", ".svg")]

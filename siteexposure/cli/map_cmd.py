@@ -4,7 +4,8 @@ Evaluates the site, computes the keep-out zones and writes into ``DIR``, each fi
 atomically: a plan of every evaluated area and an elevation cut through every antenna
 (PNG and SVG, one per limit set), the GeoJSON and KML of zones, areas, antennas and
 receptors, and the CSV of grid values; then lists what it wrote. Exit status 0 once the
-files are written, whatever the verdict; bad input or an unusable folder is exit
+files are written, whatever the verdict; bad input, an unusable folder, or an output name
+that is an input of the run (the site file, a pattern file, a limit table) is exit
 status 2 with one ``Error:`` line and no files.
 """
 
@@ -17,32 +18,6 @@ import typer
 from siteexposure.cli.app import app
 
 
-def check_output_dir(out: Path, site, names: list[str]) -> Path:
-    """Refuse a folder that is an input file, or outputs that would overwrite an input.
-
-    Raises
-    ------
-    OutputError
-        With the path and what was expected.
-    """
-    from siteexposure.errors import OutputError
-
-    out = Path(out)
-    inputs = [Path(p) for p, _ in site.input_files]
-    if site.source_path is not None:
-        inputs.append(Path(site.source_path))
-    resolved = {p.resolve() for p in inputs}
-    if out.resolve() in resolved:
-        raise OutputError(f"--out '{out}': is an input file of the site; expected a folder for the maps")
-    if out.exists() and not out.is_dir():
-        raise OutputError(f"--out '{out}': is a file; expected a folder for the maps")
-    for name in names:
-        if (out / name).resolve() in resolved:
-            raise OutputError(f"--out '{out}': writing {name} would overwrite an input file of "
-                              "the site; expected another folder")
-    return out
-
-
 @app.command("map")
 def map_command(
     site_file: Path = typer.Argument(..., help="Site description (TOML)."),
@@ -53,12 +28,13 @@ def map_command(
     from siteexposure.atomic import check_writable_dir
     from siteexposure.engine.orchestrator import evaluate_site
     from siteexposure.engine.zones import compute_zones
+    from siteexposure.output_guard import check_output_folder
     from siteexposure.readers.site_toml import read_site
     from siteexposure.writers.bundle import output_names, write_all_outputs
     from siteexposure.writers.cautions import ONE_LINE
 
     site = read_site(site_file)
-    check_output_dir(out, site, output_names(site))
+    check_output_folder(out, site, output_names(site))  # no output may replace an input
     check_writable_dir(out)
     res = evaluate_site(site, progress=not no_progress)
     zones = compute_zones(res)

@@ -29,8 +29,10 @@ def schema_command(
         return
     from siteexposure.atomic import write_text
     from siteexposure.errors import OutputError
+    from siteexposure.output_guard import protected_inputs, refuse_input_overwrite
 
     if out.is_dir():
         raise OutputError(f"--out '{out}': is a folder; expected a file name for the schema")
+    refuse_input_overwrite([out], protected_inputs())  # e.g. a shipped limit table
     write_text(out, text)
     typer.echo(f"Wrote {out}", err=True)

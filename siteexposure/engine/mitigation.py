@@ -55,8 +55,7 @@ def add_mitigation(site, ar: AreaResult, sources: list[Source], table: ComboTabl
     failing = [s for s in ar.summaries if s.verdict == "exceeds"]
     if not failing:
         return
-    jj, ii = np.nonzero(ar.inside)
-    cols = np.column_stack([ar.east_m[ii], ar.north_m[jj]])
+    cols, _ = ar.judged((failing[0].set_id, failing[0].population))  # cells and outline samples
     for summ in failing:
         summ.mitigation = _mitigate(site, ar, summ, cols, sources, table, heights, reducers)
 

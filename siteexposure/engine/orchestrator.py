@@ -20,7 +20,13 @@ from siteexposure import __version__
 from siteexposure.containers import Area, Site
 from siteexposure.engine.combos import POPULATIONS, ComboTable, build_combos, governing
 from siteexposure.engine.evaluate import Source, column_ratios, densities
-from siteexposure.engine.grid import MAX_POINTS_PER_AREA, build_grid, estimate_points
+from siteexposure.engine.grid import (
+    MAX_POINTS_PER_AREA,
+    build_grid,
+    estimate_columns,
+    estimate_points,
+    estimate_samples,
+)
 from siteexposure.engine.result import (
     AntennaResult,
     AreaResult,
@@ -117,7 +123,7 @@ def check_grid_size(site: Site) -> None:
     Three estimates are made before anything is allocated, from the outlines and the
     antennas alone:
 
-    * evaluation points per area (cells x averaging heights) against
+    * evaluation points per area ((cells + outline samples) x averaging heights) against
       :data:`~siteexposure.engine.grid.MAX_POINTS_PER_AREA` (run time);
     * the memory of the run -- the stored ratio grids of every area (cells x
       (limit set, population) keys x 8 bytes) plus the working arrays of the largest area,
@@ -146,13 +152,13 @@ def check_grid_size(site: Site) -> None:
     except LimitsError:  # an unknown set is reported by the evaluation itself
         n_combos = 2 * n_keys
 
-    def memory(res: float) -> int:
-        cells = [estimate_points(a, res) for a in evaluated]
+    def memory(res: float) -> int:  # an outline sample is counted as a whole cell
+        cells = [estimate_columns(a, res) for a in evaluated]
         return estimate_memory_bytes(cells, k, len(site.antennas), n_keys, n_combos, BLOCK_ELEMENTS)
 
     def fits(res: float) -> bool:
         return memory(res) <= budget and all(
-            estimate_points(a, res) * k <= MAX_POINTS_PER_AREA for a in evaluated)
+            estimate_columns(a, res) * k <= MAX_POINTS_PER_AREA for a in evaluated)
 
     def coarser() -> float:
         """The first resolution, in 5 % steps up from the area-scaling guess, that fits."""
@@ -169,11 +175,13 @@ def check_grid_size(site: Site) -> None:
 
     budget = memory_budget_bytes()
     for area in evaluated:
-        n = estimate_points(area, site.resolution_m) * k
+        cells = estimate_points(area, site.resolution_m)
+        n = estimate_columns(area, site.resolution_m) * k
         if n > MAX_POINTS_PER_AREA:
             raise InputError(
                 f"{file}: area \"{area.name}\" at resolution_m = {site.resolution_m:g} needs "
-                f"about {n:,} evaluation points ({n // k:,} cells x {k} averaging heights; "
+                f"about {n:,} evaluation points (({cells:,} cells + {n // k - cells:,} outline "
+                f"samples) x {k} averaging heights; "
                 f"limit {MAX_POINTS_PER_AREA:,} per area, to bound the run time); expected a "
                 f"coarser resolution_m (about {coarser():.3g} m would fit) or a smaller area"
             )
@@ -182,8 +190,9 @@ def check_grid_size(site: Site) -> None:
         raise InputError(
             f"{file}: the area grids at resolution_m = {site.resolution_m:g} need about "
             f"{_gib(need)} of memory (budget {_gib(budget)}): "
-            f"{sum(estimate_points(a, site.resolution_m) for a in evaluated):,} cells, each "
-            f"holding {n_keys} stored ratios (limit sets x populations), plus working arrays; "
+            f"{sum(estimate_points(a, site.resolution_m) for a in evaluated):,} cells and "
+            f"{sum(estimate_samples(a, site.resolution_m) for a in evaluated):,} outline samples, "
+            f"each holding {n_keys} stored ratios (limit sets x populations), plus working arrays; "
             f"expected a coarser resolution_m (about {coarser():.3g} m would fit) or smaller "
             "areas"
         )
@@ -247,7 +256,7 @@ def evaluate_site(site: Site, *, progress: bool = False, mitigation: bool = True
     reducers = table.reducers(site.averaging.method)
 
     grids = [(area, build_grid(area, site.resolution_m)) for area in site.areas]
-    total = sum(int(g.evaluate.sum()) for area, g in grids if area.access != "none")
+    total = sum(int(g.evaluate.sum()) + len(g.samples_en) for area, g in grids if area.access != "none")
     areas: list[AreaResult] = []
     with _progress(total, f"Evaluating {site.name}", progress and total * len(sources) > 2e6) as tick:
         for area, grid in grids:
@@ -308,40 +317,61 @@ def _population(access: str) -> str | None:
 
 
 def _evaluate_area(site, area: Area, grid, sources, table: ComboTable, heights, reducers, tick) -> AreaResult:
+    """Ratios of an area's grid (inside cells and margin) and outline samples; verdicts."""
     ny, nx = grid.shape
-    ratio = {}
+    ratio, at_samples = {}, {}
     assess = np.zeros((ny, nx), dtype=bool)
     if area.access == "none" or not sources:
         return AreaResult(area, grid.east_m, grid.north_m, grid.inside, assess, ratio)
     jj, ii = np.nonzero(grid.evaluate)
-    cols = np.column_stack([grid.east_m[ii], grid.north_m[jj]])
+    cols = np.vstack([np.column_stack([grid.east_m[ii], grid.north_m[jj]]), grid.samples_en])
     values = column_ratios(sources, cols, area.floor_m, heights, table.weights, reducers, progress=tick)
+    n_cells = len(jj)
     for set_id in site.limits:
         for pop in POPULATIONS:
             best, _ = governing(values, table.rows_for(set_id, pop))
             g = np.full((ny, nx), np.nan)
-            g[jj, ii] = best
+            g[jj, ii] = best[:n_cells]
             ratio[(set_id, pop)] = g
+            at_samples[(set_id, pop)] = best[n_cells:]
     any_key = next(iter(ratio))
     assess[jj, ii] = np.isfinite(ratio[any_key][jj, ii])
-    result = AreaResult(area, grid.east_m, grid.north_m, grid.inside, assess, ratio)
+    result = AreaResult(area, grid.east_m, grid.north_m, grid.inside, assess, ratio,
+                        samples_en=grid.samples_en, sample_ratio=at_samples)
     for set_id in site.limits:
         result.summaries.append(_summarise(site, result, set_id, area.population, sources, table, heights))
     return result
 
 
+def _sampling_note(result: AreaResult, n_points: int) -> str:
+    """Why an area was judged other than on its grid alone ("" if it was not)."""
+    n_cells = int(result.inside.sum())
+    if n_points == 0:
+        return ("its outline encloses no surface (area 0 m^2), so no point could be judged; "
+                "expected an outline around the surface people stand on")
+    if n_cells == 0:
+        res = float(result.east_m[1] - result.east_m[0]) if len(result.east_m) > 1 else float("nan")
+        return (f"narrower than the {res:g} m grid (no cell centre inside): judged on "
+                f"{n_points} points along its outline and inside the cells it crosses")
+    return ""
+
+
 def _summarise(site, result: AreaResult, set_id, pop, sources, table, heights) -> AreaSummary:
-    """Worst point, contributions, responsible operators and verdict of one area."""
+    """Worst point, contributions, responsible operators and verdict of one area.
+
+    Judged on every point of the area: the inside cell centres and the outline samples.
+    """
     area = result.area
-    g = np.where(result.inside, result.ratio[(set_id, pop)], np.nan)
-    n_points = int(result.inside.sum())
-    n_bad = int((result.inside & ~result.assessable).sum())
-    finite = np.isfinite(g)
-    if not finite.any():
-        return AreaSummary(set_id, pop, float("nan"), None, "not assessable", "whole-body", n_points, n_bad, {}, {}, ())
-    j, i = np.unravel_index(np.nanargmax(g), g.shape)
-    max_ratio = float(g[j, i])
-    at = (float(result.east_m[i]), float(result.north_m[j]), float(area.floor_m))
+    en, values = result.judged((set_id, pop))
+    n_points = len(values)
+    n_bad = int(np.isnan(values).sum())
+    note = _sampling_note(result, n_points)
+    if n_bad == n_points:
+        return AreaSummary(set_id, pop, float("nan"), None, "not assessable", "whole-body", n_points,
+                           n_bad, {}, {}, (), note=note)
+    k = int(np.nanargmax(values))
+    max_ratio = float(values[k])
+    at = (float(en[k, 0]), float(en[k, 1]), float(area.floor_m))
     share, region = _shares_at_column(site, (at[0], at[1]), area.floor_m, sources, table, heights, set_id, pop)
     op_share: dict[str, float] = {}
     for src in sources:
@@ -349,7 +379,8 @@ def _summarise(site, result: AreaResult, set_id, pop, sources, table, heights) -
         op_share[op] = op_share.get(op, 0.0) + share.get(src.id, 0.0)
     responsible = tuple(op for op, v in op_share.items() if v >= RESPONSIBLE_SHARE) if max_ratio > 1.0 else ()
     verdict = "exceeds" if max_ratio > 1.0 else ("not assessable" if n_bad else "complies")
-    return AreaSummary(set_id, pop, max_ratio, at, verdict, region, n_points, n_bad, share, op_share, responsible)
+    return AreaSummary(set_id, pop, max_ratio, at, verdict, region, n_points, n_bad, share, op_share,
+                       responsible, note=note)
 
 
 def _shares_at_column(site, en, floor_m, sources, table: ComboTable, heights, set_id, pop):

@@ -4,6 +4,10 @@ Exposure-ratio grids are keyed by ``(set_id, population)``; the value of a grid 
 the governing ratio of that limit set (for a set with whole-body and local reference
 levels, the larger of the spatially averaged whole-body ratio and the peak local ratio).
 NaN marks cells outside the area and cells the models cannot assess.
+
+An area is judged on its *points*: the centres of the grid cells inside its outline and
+its outline samples (points on the outline and one point in each cell it covers only in
+part, see :mod:`siteexposure.engine.grid`), which carry the same ratios, keyed alike.
 """
 
 from __future__ import annotations
@@ -70,6 +74,9 @@ class AreaSummary:
     operator_share: dict[str, float]
     responsible_operators: tuple[str, ...]  #: operators >= 5 % of the limit where it is exceeded
     mitigation: Mitigation | None = None
+    #: one line on how the area was judged where the grid alone could not judge it
+    #: (narrower than a cell; no surface), "" otherwise
+    note: str = ""
 
 
 @dataclass
@@ -83,10 +90,55 @@ class AreaResult:
     assessable: np.ndarray  #: (ny, nx) bool, every averaging point assessable
     ratio: dict[Key, np.ndarray]  #: (ny, nx) governing exposure ratio, NaN outside / not assessable
     summaries: list[AreaSummary] = field(default_factory=list)
+    #: (m, 2) outline samples (siteexposure.engine.grid) [m]
+    samples_en: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
+    #: (m,) governing exposure ratio at each outline sample, NaN where not assessable
+    sample_ratio: dict[Key, np.ndarray] = field(default_factory=dict)
 
     @property
     def evaluated(self) -> bool:
         return self.area.access != "none"
+
+    def judged(self, key: Key) -> tuple[np.ndarray, np.ndarray]:
+        """Every point the area is judged on: inside cell centres, then outline samples.
+
+        Returns
+        -------
+        en : ndarray, shape (n, 2)
+            East and north of each point. [m]
+        ratio : ndarray, shape (n,)
+            Governing exposure ratio of ``key`` there (NaN: not assessable). [1]
+        """
+        jj, ii = np.nonzero(self.inside)
+        en = np.column_stack([self.east_m[ii], self.north_m[jj]]).reshape(-1, 2)
+        grid = self.ratio.get(key)
+        cells = grid[jj, ii] if grid is not None else np.full(len(jj), np.nan)
+        samples = self.sample_ratio.get(key, np.full(len(self.samples_en), np.nan))
+        return (np.vstack([en, np.asarray(self.samples_en, float).reshape(-1, 2)]),
+                np.concatenate([cells, samples]))
+
+    def cell_max(self, key: Key) -> np.ndarray:
+        """The ratio grid of ``key`` with each outline sample folded into the cells that
+        hold it (the larger value wins; a sample on a cell border is in both cells): what a
+        map colours, so that no cell looks lower than a point judged in it. NaN samples and
+        not-assessable cells stay as they are."""
+        grid = np.array(self.ratio[key], dtype=float)
+        vals = self.sample_ratio.get(key)
+        if vals is None or not len(vals):
+            return grid
+        res_e = float(self.east_m[1] - self.east_m[0]) if len(self.east_m) > 1 else 1.0
+        res_n = float(self.north_m[1] - self.north_m[0]) if len(self.north_m) > 1 else 1.0
+        en = np.asarray(self.samples_en, float).reshape(-1, 2)
+        u = (en[:, 0] - self.east_m[0]) / res_e + 0.5  # cell i spans [i, i + 1) in u
+        v = (en[:, 1] - self.north_m[0]) / res_n + 0.5
+        finite = np.isfinite(vals)
+        for du in (-1e-9, 1e-9):
+            for dv in (-1e-9, 1e-9):
+                i = np.clip(np.floor(u + du), 0, len(self.east_m) - 1).astype(int)
+                j = np.clip(np.floor(v + dv), 0, len(self.north_m) - 1).astype(int)
+                ok = finite & np.isfinite(self.ratio[key][j, i])  # not assessable stays so
+                np.fmax.at(grid, (j[ok], i[ok]), vals[ok])
+        return grid
 
 
 @dataclass(frozen=True)

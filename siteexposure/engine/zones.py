@@ -25,10 +25,24 @@ How a zone is made
     +inf, ``FillType.OuterOffset``: each outer ring with its holes), turned into shapely
     polygons and clipped to the area outline. No contour tracer of our own.
 
+A zone agrees with the area's verdict -- our decision
+    The verdict is judged on points (the inside cell centres and the outline samples of
+    :mod:`siteexposure.engine.grid`), so the zone is tied to the same points:
+
+    * a piece of the clipped contour that holds no judged point above the level is
+      dropped: it is only the interpolation between the margin ring (outside the area)
+      and the cells inside, and the area was not found to exceed there;
+    * the part of the area within half a cell (a square of side ``resolution_m``) of each
+      outline sample above the level that the contour leaves out is added, so a narrow
+      part (a walkway, a ledge, the arm of an L) whose samples exceed is inside the zone.
+
+    Hence a zone of a level exists exactly where a judged point exceeds that level, and
+    the worst point of an exceeding area lies inside its zone.
+
 Cells the models cannot assess (NaN; reactive near field) -- our decision
     They are never a pass. The region of the outline not covered by grid quads whose
-    corners all carry a number (``contourpy`` filled contour of the whole valid range;
-    this also covers slivers of the outline the grid does not reach) is
+    corners all carry a number (``contourpy`` filled contour of the whole valid range),
+    with the half-cell squares of the outline samples the models cannot assess, is
 
     * added to EVERY exceedance zone of that grid (a keep-out zone is never made
       smaller by not knowing), and
@@ -37,7 +51,7 @@ Cells the models cannot assess (NaN; reactive near field) -- our decision
 
 Mitigation category (47 CFR 1.1307(b)(4))
     Each zone carries the category that holds everywhere in it: the lowest category of
-    the grid cells whose centres lie inside it (not-assessable cells excluded), from the
+    the judged points above its level (not-assessable points excluded), from the
     governing ratios of the same set to its general (R_g) and occupational (R_o) limits:
 
     ============  =================================  ==============================
@@ -83,7 +97,7 @@ from typing import Any
 
 import numpy as np
 
-from siteexposure.engine.result import AreaResult, SiteResult
+from siteexposure.engine.result import POPULATIONS, AreaResult, SiteResult
 
 __all__ = [
     "CATEGORY_NAMES",
@@ -278,21 +292,86 @@ def _levels_for(area_population: str, extra: tuple[float, ...]) -> list[tuple[st
     return out
 
 
-def _zone_category(rg, ro, own, level, inside) -> int:
-    """Lowest category of the cells (inside the outline) whose own ratio exceeds ``level``."""
+def _zone_category(rg, ro, own, level) -> int:
+    """Lowest category of the judged points (1-D arrays) whose own ratio exceeds ``level``."""
     cat = mitigation_category(rg, ro)
-    sel = inside & np.isfinite(own) & (own > level) & (cat > 0)
+    sel = np.isfinite(own) & (own > level) & (cat > 0)
     if sel.any():
         return int(cat[sel].min())
-    # no cell centre exceeds the level (the zone lies between cell centres, or is made of
-    # not-assessable parts only): the category just above the level, with the ratio of
-    # the two grids at the hottest cell
-    finite = inside & np.isfinite(rg) & np.isfinite(ro) & np.isfinite(own) & (own > 0)
+    # no judged point exceeds the level (a zone made of not-assessable parts only): the
+    # category just above the level, with the ratio of the two grids at the hottest point
+    finite = np.isfinite(rg) & np.isfinite(ro) & np.isfinite(own) & (own > 0)
     if not finite.any():
         return 0
-    j = np.flatnonzero(finite.ravel())[int(np.argmax(own[finite]))]
-    scale = level * (1.0 + 1e-9) / own.ravel()[j]
-    return int(mitigation_category(rg.ravel()[j] * scale, ro.ravel()[j] * scale))
+    j = np.flatnonzero(finite)[int(np.argmax(own[finite]))]
+    scale = level * (1.0 + 1e-9) / own[j]
+    return int(mitigation_category(rg[j] * scale, ro[j] * scale))
+
+
+def _resolution(ar: AreaResult) -> float:
+    for axis in (ar.east_m, ar.north_m):
+        if len(axis) > 1:
+            return float(axis[1] - axis[0])
+    return 1.0
+
+
+def _sample_patches(points: np.ndarray, res: float, outline):
+    """The part of the area within half a cell (a square of side ``res``) of each point."""
+    import shapely
+    from shapely.geometry import Polygon
+
+    if not len(points):
+        return Polygon()
+    h = 0.5 * res
+    squares = shapely.box(points[:, 0] - h, points[:, 1] - h, points[:, 0] + h, points[:, 1] + h)
+    return _polygonal(shapely.union_all(squares).intersection(outline))
+
+
+def _supported(geom, cells: np.ndarray, samples: np.ndarray, tol: float):
+    """The pieces of ``geom`` that hold a judged point above the level: an inside cell
+    centre (``cells``) or an outline sample (``samples``, within ``tol``: they lie on the
+    outline, where rounding may put them a hair outside the clipped piece). Pieces
+    without one are the linear interpolation between the grid's margin ring (outside the
+    area) and the cells inside, not a place where the area was found to exceed."""
+    import shapely
+
+    keep = []
+    sample_pts = shapely.points(samples) if len(samples) else None
+    for piece in shapely.get_parts(geom):
+        x0, y0, x1, y1 = piece.bounds
+        near = ((cells[:, 0] >= x0) & (cells[:, 0] <= x1) & (cells[:, 1] >= y0)
+                & (cells[:, 1] <= y1))
+        if near.any() and shapely.intersects_xy(piece, cells[near, 0], cells[near, 1]).any():
+            keep.append(piece)
+        elif sample_pts is not None and shapely.dwithin(piece, sample_pts, tol).any():
+            keep.append(piece)
+    return _polygonal(shapely.union_all(keep)) if keep else _polygonal(None)
+
+
+def _outside(geom, points: np.ndarray, tol: float) -> np.ndarray:
+    """Which of ``points`` lie farther than ``tol`` from ``geom``."""
+    import shapely
+
+    if geom.is_empty:
+        return np.ones(len(points), dtype=bool)
+    shapely.prepare(geom)
+    return ~shapely.dwithin(geom, shapely.points(points), tol)
+
+
+def _judged(ar: AreaResult, key) -> tuple[np.ndarray, np.ndarray]:
+    """Ratios of ``key`` at the inside cell centres and at the outline samples."""
+    grid = ar.ratio[key]
+    samples = ar.sample_ratio.get(key, np.full(len(ar.samples_en), np.nan))
+    return grid[ar.inside], np.asarray(samples, float)
+
+
+def _above(ar: AreaResult, key, level: float) -> tuple[np.ndarray, np.ndarray]:
+    """East/north of the inside cell centres and of the outline samples above ``level``."""
+    grid = ar.ratio[key]
+    jj, ii = np.nonzero(ar.inside & (grid > level))
+    vals = ar.sample_ratio.get(key, np.full(len(ar.samples_en), np.nan))
+    samples = np.asarray(ar.samples_en, float).reshape(-1, 2)[np.asarray(vals) > level]
+    return np.column_stack([ar.east_m[ii], ar.north_m[jj]]), samples
 
 
 def _area_zones(result: SiteResult, ar: AreaResult) -> list[Zone]:
@@ -300,26 +379,40 @@ def _area_zones(result: SiteResult, ar: AreaResult) -> list[Zone]:
     own_pop = area.population
     outline = _outline_polygon(area)
     levels = _levels_for(own_pop, result.site.zone_levels)
+    res = _resolution(ar)
+    tol = 1e-6 * max(res, 1e-3)
+    samples_en = np.asarray(ar.samples_en, float).reshape(-1, 2)
     zones: list[Zone] = []
     for set_id in result.site.limits:
         rg = ar.ratio.get((set_id, "general"))
         ro = ar.ratio.get((set_id, "occupational"))
         if rg is None or ro is None:
             continue
+        judged = {pop: np.concatenate(_judged(ar, (set_id, pop))) for pop in POPULATIONS}
         gens, unknown = {}, {}
         for pop, grid in (("general", rg), ("occupational", ro)):
             gen = _generator(ar, grid)
             valid = _filled(gen, -np.inf, np.inf)
             gens[pop] = gen
             unknown[pop] = _polygonal(outline.difference(valid))
+            bad = np.isnan(_judged(ar, (set_id, pop))[1])
+            if bad.any():  # outline samples the models cannot assess
+                unknown[pop] = _polygonal(unknown[pop].union(
+                    _sample_patches(samples_en[bad], res, outline)))
         for kind, pop, level in levels:
-            own = rg if pop == "general" else ro
+            cells, samples = _above(ar, (set_id, pop), level)
             geom = _polygonal(_filled(gens[pop], level, np.inf).intersection(outline))
+            geom = _supported(geom, cells, samples, tol)
+            if len(samples):  # every outline sample above the level lies in the zone
+                out = _outside(geom, samples, tol)
+                if out.any():
+                    geom = _polygonal(geom.union(_sample_patches(samples[out], res, outline)))
             if not unknown[pop].is_empty:
                 geom = _polygonal(geom.union(unknown[pop]))
             if geom.is_empty:
                 continue
-            cat = _zone_category(rg, ro, own, level, ar.inside)
+            own = judged[pop]
+            cat = _zone_category(judged["general"], judged["occupational"], own, level)
             zones.append(Zone(area.name, area.access, float(area.floor_m), set_id, pop,
                               float(level), kind, geom, float(geom.area), cat, SIGN_WORDS[cat]))
         na = unknown[own_pop]

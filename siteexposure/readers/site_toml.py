@@ -424,7 +424,8 @@ class _Builder:
         if poly.area < self.doc.site.resolution_m ** 2:
             warnings.warn(f"{self.file}: {where}: the outline ({poly.area:.3g} m^2) is smaller "
                           f"than one grid cell of resolution_m = {self.doc.site.resolution_m:g}; "
-                          "use a finer resolution_m or a [[point]]", SiteExposureWarning,
+                          "it is judged on points along its outline, but its map and zones are "
+                          "coarse: use a finer resolution_m, or a [[point]]", SiteExposureWarning,
                           stacklevel=5)
 
     def points(self) -> tuple[Receptor, ...]:

@@ -66,17 +66,21 @@ def write_all_outputs(
     Raises
     ------
     OutputError
-        The folder cannot be created or written.
+        The folder cannot be created or written, or an output would replace an input of
+        the run (checked before anything is written).
     """
     from siteexposure.atomic import check_writable_dir
     from siteexposure.errors import OutputError
+    from siteexposure.output_guard import protected_inputs, refuse_input_overwrite
     from siteexposure.writers.geojson import write_geojson
     from siteexposure.writers.grid_csv import write_grid_csv
     from siteexposure.writers.kml import write_kml
     from siteexposure.writers.maps import render_maps
 
+    names = output_names(result.site, formats)
+    refuse_input_overwrite([Path(out_dir) / n for n in names], protected_inputs(result.site))
     out = check_writable_dir(Path(out_dir))
-    for name in output_names(result.site, formats):
+    for name in names:
         if (out / name).is_dir():  # refuse before anything is written
             raise OutputError(f"output file '{out / name}': a folder is in the way; "
                               "expected a file path that can be replaced (remove or rename the folder)")

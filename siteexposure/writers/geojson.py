@@ -172,7 +172,9 @@ def feature_collection(result: SiteResult, zones: list) -> dict[str, Any]:
 def write_geojson(result: SiteResult, zones: list, path: Path | str) -> Path:
     """Write :func:`feature_collection` to ``path`` atomically (UTF-8 JSON) and return it."""
     from siteexposure.atomic import write_text
+    from siteexposure.output_guard import protected_inputs, refuse_input_overwrite
 
+    refuse_input_overwrite([path], protected_inputs(result.site))
     fc = feature_collection(result, zones)
 
     def dump(obj) -> str:

@@ -9,7 +9,9 @@ Top-level keys of ``screen --json``:
 ``tool``, ``site``, ``status``, ``cautions``, ``exceeded_where_reachable``,
 ``areas`` (each: ``name``, ``access``, ``population``, ``floor_m``,
 ``max_exposure_ratio`` — the largest over the site's limit sets, ``verdict``, and
-``by_limits``: per set the ratio, % of limit, worst point, shares, responsible
+``by_limits``: per set the ratio, % of limit, worst point, ``points`` judged (inside
+cell centres and outline samples) and ``points_not_assessable``, ``note`` (how an area
+narrower than the grid, or without surface, was judged; else null), shares, responsible
 operators and mitigation), ``antennas`` (each: ``id``, ``operator``, ``frequency_mhz``,
 powers, ``model``, ``keep_out_m`` — per population the distances ``front``, ``behind``,
 ``left``, ``right``, ``above``, ``below`` (largest over the limit sets) — and
@@ -87,6 +89,7 @@ def _area_dict(ar: AreaResult) -> dict:
                 "governing_region": s.governing_region,
                 "points": s.n_points,
                 "points_not_assessable": s.n_not_assessable,
+                "note": s.note or None,
                 "antenna_share": {k: _num(v) for k, v in s.antenna_share.items()},
                 "operator_share": {k: _num(v) for k, v in s.operator_share.items()},
                 "responsible_operators": list(s.responsible_operators),

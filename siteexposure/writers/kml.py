@@ -172,7 +172,9 @@ def kml_document(result: SiteResult, zones: list) -> ET.Element:
 def write_kml(result: SiteResult, zones: list, path: Path | str) -> Path:
     """Write :func:`kml_document` to ``path`` atomically (UTF-8 XML) and return it."""
     from siteexposure.atomic import write_bytes
+    from siteexposure.output_guard import protected_inputs, refuse_input_overwrite
 
+    refuse_input_overwrite([path], protected_inputs(result.site))
     root = kml_document(result, zones)
     ET.indent(root)
     data = ET.tostring(root, encoding="utf-8", xml_declaration=True)

@@ -97,28 +97,15 @@ def _halo(width: float = 3.2):
 # ---------------------------------------------------------------------------------------
 
 
-def _lines(x, y, z, level: float, clip=None) -> list[np.ndarray]:
-    """Contour lines of ``z`` at ``level`` (contourpy), clipped to a shapely polygon."""
+def _lines(x, y, z, level: float) -> list[np.ndarray]:
+    """Contour lines of ``z`` at ``level`` (contourpy)."""
     import contourpy
-    import shapely
-    from shapely.geometry import LineString
 
     zz = np.ma.masked_invalid(np.asarray(z, dtype=float))
     if zz.count() == 0:
         return []
     gen = contourpy.contour_generator(x, y, zz, line_type=contourpy.LineType.Separate)
-    pieces = [p for p in gen.lines(level) if len(p) >= 2]
-    if clip is None:
-        return pieces
-    out = []
-    for p in pieces:
-        inter = LineString(p).intersection(clip)
-        for part in shapely.get_parts(inter):
-            if part.geom_type == "LineString" and part.length > 0:
-                out.append(np.asarray(part.coords))
-            elif part.geom_type == "MultiLineString":
-                out.extend(np.asarray(g.coords) for g in part.geoms)
-    return out
+    return [p for p in gen.lines(level) if len(p) >= 2]
 
 
 class _Segment:
@@ -204,11 +191,40 @@ def _label_along(ax, pieces: list[np.ndarray], text: str, fontsize: float, place
     return False
 
 
-def _draw_boundaries(ax, x, y, specs, clip, fontsize: float, placed: list) -> list[tuple[str, str]]:
-    """Draw every (kind, grid, level, label) boundary; returns the (kind, label) drawn."""
+def _zone_lines(geom, outline) -> list[np.ndarray]:
+    """The boundary of a zone polygon inside the area: the pieces along the area's own
+    outline (drawn as the outline) left out."""
+    import shapely
+
+    scale = max(math.sqrt(max(outline.area, 1e-12)), 1.0)
+    inner = geom.boundary.difference(outline.boundary.buffer(1e-7 * scale))
+    out = []
+    for part in shapely.get_parts(shapely.line_merge(inner) if not inner.is_empty else inner):
+        if part.geom_type == "LineString" and part.length > 0:
+            out.append(np.asarray(part.coords))
+    return out
+
+
+def _zone_specs(zones: list, area_name: str, set_id: str, outline):
+    """(kind, pieces, label) of each zone of one area and set, as the plan draws them."""
+    specs = []
+    for z in zones:
+        if z.area != area_name or z.set_id != set_id or z.kind not in STYLES:
+            continue
+        label = SHORT.get(z.kind) or f"{z.level:g}x {z.population}"
+        specs.append((z.kind, _zone_lines(z.geometry, outline), label))
+    return specs
+
+
+def _grid_specs(x, y, specs) -> list:
+    """(kind, pieces, label) of each (kind, grid, level, label) contour of a grid."""
+    return [(kind, _lines(x, y, grid, level), label) for kind, grid, level, label in specs]
+
+
+def _draw_boundaries(ax, specs, fontsize: float, placed: list) -> list[tuple[str, str]]:
+    """Draw every (kind, pieces, label) boundary; returns the (kind, label) drawn."""
     drawn, lines = [], []
-    for kind, grid, level, label in specs:
-        pieces = _lines(x, y, grid, level, clip)
+    for kind, pieces, label in specs:
         if not pieces:
             continue
         ls, lw, _ = STYLES[kind]
@@ -480,7 +496,8 @@ def _plan_figure(result: SiteResult, zones: list, ar, set_id: str):
 
     patch = PathPatch(MPath(ring, closed=True), fc="none", ec="none")
     ax.add_patch(patch)
-    mesh = _mesh(ax, ar.east_m, ar.north_m, ar.ratio[(set_id, pop)])
+    # each cell coloured with the highest value judged in it (outline samples included)
+    mesh = _mesh(ax, ar.east_m, ar.north_m, ar.cell_max((set_id, pop)))
     mesh.set_clip_path(patch)
     handles = []
     na = [z for z in zones if z.area == area.name and z.set_id == set_id and z.kind == "not-assessable"]
@@ -503,8 +520,10 @@ def _plan_figure(result: SiteResult, zones: list, ar, set_id: str):
         if other.name != area.name:
             _area_label(ax, other, f"{other.name}\n({other.access}, floor {other.floor_m:g} m)",
                         fs - 0.5, placed)
-    specs = _boundary_specs(ar.ratio, set_id, pop, site.zone_levels)
-    drawn = _draw_boundaries(ax, ar.east_m, ar.north_m, specs, Polygon(outline), fs, placed)
+    # the boundaries are those of the zones (engine.zones), which hold every judged point
+    # above their level: the map shows what the verdict found
+    drawn = _draw_boundaries(ax, _zone_specs(zones, area.name, set_id, Polygon(outline)),
+                             fs, placed)
     _north_arrow(fig)
     _scale_bar(ax, span)
 
@@ -523,7 +542,7 @@ def _plan_figure(result: SiteResult, zones: list, ar, set_id: str):
         verdict = (f"Highest exposure ratio in the area {mx:.3g} ({10 * math.log10(mx):+.1f} dB): {summ.verdict}"
                    if np.isfinite(mx) and mx > 0 else f"Verdict: {summ.verdict}")
         if summ.n_not_assessable:
-            verdict += f"; {summ.n_not_assessable} of {summ.n_points} grid points not assessable"
+            verdict += f"; {summ.n_not_assessable} of {summ.n_points} points judged not assessable"
     _title_block(fig, [
         site.name,
         f"Plan of {area.name}: {area.access} access, judged against the {what}; floor {area.floor_m:g} m above site ground",
@@ -657,8 +676,9 @@ def _elevation_figure(result: SiteResult, antenna_id: str, set_id: str, cut):
     span = float(max(dist[-1] - dist[0], z[-1] - z[0]))
     floors = _floors_on_cut(ax, site, ant, dist, z, fs, placed)
     _antennas_on_cut(ax, site, ant, span, fs, placed)
-    drawn = _draw_boundaries(ax, dist, z, _boundary_specs(ratio, set_id, "general", site.zone_levels),
-                             None, fs, placed)
+    drawn = _draw_boundaries(ax, _grid_specs(dist, z, _boundary_specs(ratio, set_id, "general",
+                                                                       site.zone_levels)),
+                             fs, placed)
     _scale_bar(ax, float(dist[-1] - dist[0]), loc="upper left")
     handles.append(Line2D([], [], marker="o", mfc="white", mec="black", ls="none",
                           label="antenna, arrow = boresight with downtilt"))
@@ -728,13 +748,17 @@ def render_maps(
     from siteexposure.engine.orchestrator import build_sources, load_limit_sets
     from siteexposure.engine.sections import adaptive_cut
     from siteexposure.errors import OutputError
+    from siteexposure.output_guard import protected_inputs, refuse_input_overwrite
+    from siteexposure.writers.bundle import GEOJSON_NAME, GRID_CSV_NAME, KML_NAME, output_names
 
     formats = tuple(formats)
     for f in formats:
         if f not in ("png", "svg"):
             raise OutputError(f"map format {f!r}: expected png or svg")
-    out = check_writable_dir(Path(out_dir))
     site = result.site
+    names = [n for n in output_names(site, formats) if n not in (GEOJSON_NAME, KML_NAME, GRID_CSV_NAME)]
+    refuse_input_overwrite([Path(out_dir) / n for n in names], protected_inputs(site))
+    out = check_writable_dir(Path(out_dir))
     plans = [(i, ar) for i, ar in enumerate(result.areas) if ar.evaluated and ar.ratio and ar.area.population]
     total = len(plans) * len(site.limits) + len(site.antennas) * len(site.limits)
     done, written = 0, []

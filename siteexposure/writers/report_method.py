@@ -120,7 +120,10 @@ def method(ctx: ReportContext) -> list:
     out.append(para(
         f"Each grid cell of an area (spacing {data['site']['resolution_m']} m) carries a vertical "
         f"line standing on the floor, with {av.get('points')} evenly spaced points from "
-        f"{av.get('bottom_m')} m to {av.get('top_m')} m (both ends included); {how}. Limit sets "
+        f"{av.get('bottom_m')} m to {av.get('top_m')} m (both ends included); {how}. So that no "
+        "narrow part of an area (a walkway, a ledge) falls between cell centres, lines also "
+        "stand on the outline itself, at most one grid spacing apart, and in every cell the area "
+        "covers only in part; every line counts towards the area's verdict. Limit sets "
         "with local (peak) reference levels are checked at the largest point of the line as "
         "well, and the larger of the two ratios governs. Receptors are evaluated at their exact "
         "position without averaging."))

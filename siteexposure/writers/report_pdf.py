@@ -172,13 +172,14 @@ def write_report(
     Raises
     ------
     OutputError
-        When the file cannot be written.
+        When the file cannot be written, or would replace an input of the run.
     """
     from reportlab import rl_config
     from reportlab.platypus import CondPageBreak
     from reportlab.platypus.doctemplate import LayoutError
 
     from siteexposure.engine.zones import barrier_length_m
+    from siteexposure.output_guard import protected_inputs, refuse_input_overwrite
     from siteexposure.writers.json_out import site_dict
     from siteexposure.writers.report_closing import cautions, signoff, traceability
     from siteexposure.writers.report_context import ReportContext
@@ -187,8 +188,9 @@ def write_report(
     from siteexposure.writers.report_results import mitigation, results
     from siteexposure.writers.report_sections import cover, inputs, summary
 
-    register_fonts()
     target = Path(out_pdf)
+    refuse_input_overwrite([target], protected_inputs(result.site))
+    register_fonts()
     site_name = result.site.name
     zones = list(zones)
     maps = [Path(p) for p in (map_files or ())]

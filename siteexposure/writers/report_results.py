@@ -136,7 +136,7 @@ def _area_table(ctx: ReportContext) -> list:
                          triple(b["at_m"]), b["governing_region"],
                          f"{b['points']} / {b['points_not_assessable']}", b["verdict"]])
     return [table(["area", "limit set, population", "max exposure ratio", "% of limit",
-                   "worst point E, N, floor (m)", "governing limit", "grid points / not assessable",
+                   "worst point E, N, floor (m)", "governing limit", "points judged / not assessable",
                    "verdict"], rows, [1.8, 1.2, 1.1, 1.1, 1.6, 1.0, 1.2, 1.1], ctx.width,
                   right_cols=(2, 3))]
 

@@ -140,12 +140,17 @@ def _area_words(ctx: ReportContext, a: dict) -> list:
                      "section, and see the Mitigation section for remedies. "
                      f"Operators sharing responsibility (each at least 5 % of the limit there): "
                      f"{ops}.")
+        elif b["verdict"] == "not assessable" and not b["points"]:
+            text += ("<b>Not assessable:</b> no point of the area could be judged, so it cannot "
+                     "be declared within the limit from this report.")
         elif b["verdict"] == "not assessable":
-            text += (f"<b>Not assessable:</b> {b['points_not_assessable']} of {b['points']} grid "
-                     "points lie so close to an antenna that these models cannot assess them, so "
-                     "the area cannot be declared within the limit from this report.")
+            text += (f"<b>Not assessable:</b> {b['points_not_assessable']} of {b['points']} "
+                     "points judged lie so close to an antenna that these models cannot assess "
+                     "them, so the area cannot be declared within the limit from this report.")
         else:
             text += "<b>Within the limit.</b>"
+        if b.get("note"):
+            text += f" Note: {_esc(b['note'])}."
         items.append(text)
     return out + bullets(items, markup=True)
 

@@ -64,6 +64,10 @@ def print_site(res: SiteResult, console) -> None:
             t.add_row(ar.area.name, ar.area.access, s.set_id, s.population, _ratio(s.max_exposure_ratio),
                       _pct(s.max_exposure_ratio), at, f"[{_verdict_style(s.verdict)}]{note}[/]" if _verdict_style(s.verdict) else note)
     console.print(t)
+    for ar in res.areas:  # how areas narrower than the grid (or without surface) were judged
+        notes = dict.fromkeys(s.note for s in ar.summaries if s.note)
+        for text in notes:
+            console.print(f"Note on {ar.area.name}: {text}", markup=False, highlight=False, soft_wrap=True)
 
     t = Table(title="Antennas", title_justify="left")
     for col in ("id", "operator", "MHz", "net P (W)", "EIRP (W)", "ERP (W)", "model", "keep-out general F/B/up/down (m)", "keep-out occupational F/B/up/down (m)"):

@@ -95,7 +95,7 @@ def test_map_writes_and_lists_every_file(site_file, tmp_path):
             for ring in poly:
                 assert ring[0] == ring[-1] and len(ring) >= 4  # RFC 7946 §3.1.6
     header = (out / "grid_values.csv").read_text(encoding="utf-8").splitlines()[0]
-    assert header == "east_m,north_m,floor_m,area,ratio_fcc-1310_general,ratio_fcc-1310_occupational"
+    assert header == "east_m,north_m,floor_m,area,point,ratio_fcc-1310_general,ratio_fcc-1310_occupational"
 
 
 def test_bad_input_exits_2_and_writes_nothing(tmp_path):

@@ -255,13 +255,15 @@ def test_report_refuses_to_overwrite_its_own_input(work):
     assert r.returncode == 2 and r.stderr.startswith("Error: ")
 
 
-def test_report_with_maps_writes_maps_and_gis_files_beside_the_pdf(tmp_path, work):
+def test_report_with_maps_writes_maps_and_gis_files_into_a_folder_beside_the_pdf(tmp_path, work):
+    """``--with-maps`` writes into ``site_maps/`` beside ``site.pdf``, nothing else loose."""
     pytest.importorskip("siteexposure.writers.bundle")
     out = tmp_path / "with_maps" / "site.pdf"
     r = cli("report", str(work["site"]), "--out", str(out), "--with-maps", "--no-progress")
     assert r.returncode == 0, r.stderr
-    names = [p.name for p in out.parent.iterdir()]
     assert out.is_file()
+    assert sorted(p.name for p in out.parent.iterdir()) == ["site.pdf", "site_maps"]
+    names = [p.name for p in (out.parent / "site_maps").iterdir()]
     assert any(n.endswith(".png") for n in names) and any(n.endswith(".geojson") for n in names)
     assert any(n.endswith(".kml") for n in names)
 

@@ -184,10 +184,10 @@ def _one_line(exc: SiteExposureError) -> None:
 
 
 def _small_enough(site) -> bool:
-    from siteexposure.engine.grid import estimate_points
+    from siteexposure.engine.grid import estimate_columns
 
     k = len(site.averaging.heights_m())
-    n = sum(estimate_points(a, site.resolution_m) * k for a in site.areas if a.access != "none")
+    n = sum(estimate_columns(a, site.resolution_m) * k for a in site.areas if a.access != "none")
     # the array model's set-up grows fast with the electrical length of the aperture
     long_arrays = any(a.model in ("array", "auto") and a.aperture_height_m is not None
                       and a.aperture_height_m * a.frequency_mhz / 299.792458 > ARRAY_WAVELENGTHS

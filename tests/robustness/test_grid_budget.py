@@ -63,9 +63,12 @@ def test_a_huge_area_at_a_fine_resolution_is_refused_fast(tmp_path):
     line = sitegen.assert_one_line_error(run)
     assert elapsed < 2.0, elapsed
     assert run.stdout == ""
+    # cells 20,000,003^2 - 1 (lattice with margin); outline samples: per 20 km edge
+    # 2e7 along it plus 2e7 + 2 cells it crosses (engine.grid.estimate_samples)
     assert line.startswith(f'Error: {site_file}: area "Deck" at resolution_m = 0.001 needs about '
-                           "1,200,000,480,000,048 evaluation points (400,000,160,000,016 cells x "
-                           "3 averaging heights; limit 20,000,000 per area")
+                           "1,200,000,960,000,072 evaluation points ((400,000,160,000,016 cells + "
+                           "160,000,008 outline samples) x 3 averaging heights; limit 20,000,000 "
+                           "per area")
     site = _site(tmp_path, doc)
     advice = _suggested(line)
     assert _passes(replace(site, resolution_m=advice))
@@ -90,8 +93,10 @@ def test_many_areas_over_the_memory_budget_are_refused_with_a_resolution_that_fi
     budget = grid.memory_budget_bytes()
     assert re.fullmatch(
         rf"Error: {re.escape(str(site_file))}: the area grids at resolution_m = 0\.25 need about "
-        rf"[0-9.]+ GB of memory \(budget {budget / 1024**3:.2f} GB\): 37,209,920 cells, each "
-        r"holding 6 stored ratios \(limit sets x populations\), plus working arrays; expected a "
+        rf"[0-9.]+ GB of memory \(budget {budget / 1024**3:.2f} GB\): 37,209,920 cells and "
+        # outline samples per roof: 4 edges x (1360 along + 1362 crossed cells)
+        r"217,760 outline samples, each holding 6 stored ratios \(limit sets x populations\), "
+        r"plus working arrays; expected a "
         r"coarser resolution_m \(about [0-9.]+ m would fit\) or smaller areas", line), line
     site = _site(tmp_path, doc)
     assert _passes(replace(site, resolution_m=_suggested(line)))
@@ -181,3 +186,17 @@ def test_the_sample_sites_pass_the_check(sample):
     root = Path(__file__).resolve().parents[2] / "sample_sites"
     with sitegen.soft_warnings_ignored():
         assert _passes(read_site(root / sample))
+
+
+@settings(max_examples=60, deadline=None, derandomize=True, database=None)
+@given(vertices=st.lists(st.tuples(st.floats(-20, 20), st.floats(-20, 20)), min_size=3,
+                         max_size=8),
+       resolution=st.sampled_from([0.1, 0.25, 0.3, 1.0, 1.7, 5.0]))
+def test_outline_sample_count_is_bounded_without_allocation(vertices, resolution):
+    """estimate_samples (constant memory) is never below the outline samples build_grid makes,
+    so the point and memory checks count every averaging line the engine evaluates."""
+    outline = np.array(vertices, dtype=float)
+    area = Area(name="a", access="public", floor_m=0.0, outline_en=outline)
+    built = grid.build_grid(area, resolution)
+    assert grid.estimate_samples(area, resolution) >= len(built.samples_en)
+    assert grid.estimate_columns(area, resolution) >= int(built.evaluate.sum()) + len(built.samples_en)

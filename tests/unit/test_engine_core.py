@@ -68,3 +68,64 @@ def test_governing_takes_the_larger_row_and_keeps_nan():
     assert best[0] == 2.0 and which[0] == 1
     assert best[1] == 3.0 and which[1] == 0
     assert np.isnan(best[2])
+
+
+def test_outline_samples_include_the_vertices_and_are_at_most_a_cell_apart():
+    from siteexposure.engine.grid import outline_points
+
+    outline = np.array([[0, 0], [2.5, 0], [2.5, 0.3], [0, 0.3]], float)
+    pts = outline_points(outline, 1.0)
+    assert len(pts) == 3 + 1 + 3 + 1  # ceil(2.5) per long edge, one per short edge
+    for v in outline:
+        assert np.any(np.all(np.isclose(pts, v), axis=1))
+    ring = np.vstack([pts, pts[:1]])
+    assert np.all(np.hypot(*np.diff(ring, axis=0).T) <= 1.0 + 1e-12)
+
+
+def test_a_narrow_arm_gets_a_judged_point_in_every_cell_it_covers():
+    """The 0.9 m arm of an L (north 0.55-1.45 m) at a 1 m grid holds no cell centre; each of
+    the cells it covers holds a sample inside the area, and all of them are evaluated."""
+    import shapely
+
+    outline = [[0, 0.55], [10, 0.55], [10, 1.45], [1.45, 1.45], [1.45, 10], [0, 10]]
+    g = build_grid(_area(outline), 1.0)
+    poly = shapely.Polygon(outline)
+    assert shapely.intersects_xy(poly, g.samples_en[:, 0], g.samples_en[:, 1]).all()
+    for k in range(2, 10):  # the arm's cells east of the leg, rows 0-1 and 1-2
+        for lo in (0.0, 1.0):
+            in_cell = ((g.samples_en[:, 0] > k) & (g.samples_en[:, 0] < k + 1)
+                       & (g.samples_en[:, 1] > lo) & (g.samples_en[:, 1] < lo + 1))
+            assert in_cell.any(), (k, lo)
+            i = int(np.argmin(np.abs(g.east_m - (k + 0.5))))
+            j = int(np.argmin(np.abs(g.north_m - (lo + 0.5))))
+            assert g.evaluate[j, i] and not g.inside[j, i]
+
+
+def test_an_outline_without_surface_gets_no_samples():
+    g = build_grid(_area([[0, 0], [1, 0], [2, 0]]), 0.5)
+    assert g.samples_en.shape == (0, 2) and not g.inside.any()
+
+
+def test_part_cells_of_a_many_vertex_outline_equal_the_direct_intersection():
+    """The k-d cutting of the area in engine.grid finds the same cells covered in part, with
+    the same points, as intersecting every cell square with the whole outline (shapely)."""
+    import shapely
+
+    t = np.linspace(0.0, 2.0 * np.pi, 3000, endpoint=False)
+    r = 6.0 + 0.8 * np.sin(17 * t)
+    outline = np.column_stack([r * np.cos(t), r * np.sin(t)])
+    res = 0.3
+    g = build_grid(_area(outline), res)
+    poly = shapely.Polygon(outline)
+    ee, nn = np.meshgrid(g.east_m, g.north_m)
+    boxes = shapely.box(ee - res / 2, nn - res / 2, ee + res / 2, nn + res / 2)
+    area = shapely.area(shapely.intersection(poly, boxes))
+    expected = (area > 1e-9 * res * res) & ~g.inside
+    from siteexposure.engine.grid import outline_points
+
+    reps = g.samples_en[len(outline_points(outline, res)):]
+    assert len(reps) == int(expected.sum()) > 100
+    jj, ii = np.nonzero(expected)  # row by row, as the grid
+    assert np.all(np.abs(reps[:, 0] - g.east_m[ii]) <= res / 2 + 1e-12)
+    assert np.all(np.abs(reps[:, 1] - g.north_m[jj]) <= res / 2 + 1e-12)
+    assert shapely.intersects_xy(poly, reps[:, 0], reps[:, 1]).all()

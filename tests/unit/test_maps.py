@@ -163,3 +163,33 @@ def test_bad_format_is_an_output_error(rendered, tmp_path):
     res, zones, _, _ = rendered
     with pytest.raises(OutputError, match="expected png or svg"):
         maps.render_maps(res, zones, tmp_path, formats=("jpg",))
+
+
+def test_plan_of_a_narrow_arm_draws_the_zone_of_the_verdict():
+    """The L of issue 13 (a 0.9 m arm between the centres of a 1 m grid, 500 W isotropic
+    2.5 m above it): the plan's dashed general-limit line is the boundary of the zone that
+    holds the worst point, and the cell holding the worst point is coloured at least at its
+    ratio (0 dB and up), not with the lower value at the cell centre outside the arm."""
+    import shapely
+
+    outline = np.array([[0, 0.55], [10, 0.55], [10, 1.45], [1.45, 1.45], [1.45, 10], [0, 10]], float)
+    site = Site(name="L (invented)", origin_lat=40.0, origin_lon=-100.0, limits=("fcc-1310",),
+                antennas=(_ant("S", (6.0, 1.0, 2.5), 0.0, 500.0),),
+                areas=(Area("L terrace", "public", 0.0, outline),),
+                averaging=Averaging("vertical-line", 0.0, 2.0, 5), resolution_m=1.0)
+    res = evaluate_site(site, mitigation=False)
+    ar, s = res.areas[0], res.areas[0].summaries[0]
+    assert s.verdict == "exceeds"
+    zones = compute_zones(res)
+    (zone,) = [z for z in zones if z.kind == "general-limit"]
+    assert shapely.dwithin(zone.geometry, shapely.Point(s.at_m[:2]), 1e-9)
+    fig = maps._plan_figure(res, zones, ar, "fcc-1310")
+    dashed = [ln for ln in fig.axes[0].get_lines() if ln.get_linestyle() == "--"]
+    assert dashed
+    for ln in dashed:
+        xy = np.column_stack([ln.get_xdata(), ln.get_ydata()])
+        assert np.all(shapely.distance(zone.geometry.boundary, shapely.points(xy)) < 1e-9)
+    shown = ar.cell_max(("fcc-1310", "general"))
+    i = int(np.argmin(np.abs(ar.east_m - s.at_m[0])))
+    j = int(np.argmin(np.abs(ar.north_m - s.at_m[1])))
+    assert shown[j, i] >= s.max_exposure_ratio > ar.ratio[("fcc-1310", "general")][j, i]
