@@ -43,17 +43,19 @@ def load_limit_sets(site: Site) -> dict:
 
 def build_sources(site: Site) -> tuple[list[Source], list[AntennaResult]]:
     """Radiators with their chosen model, and the per-antenna records."""
-    from siteexposure.physics.sources import choose_model, reactive_radius_m
+    from siteexposure.physics.sources import choose_model, pattern_note, reactive_radius_m
 
     sources, records = [], []
     for ant in site.antennas:
         rad = ant.radiator()
         choice = choose_model(rad, ant.model)
         sources.append(Source(ant.id, rad, choice))
+        note = pattern_note(rad.pattern)
+        reason = choice.reason if note is None else f"{choice.reason}; {note}"
         records.append(
             AntennaResult(
                 antenna=ant,
-                model=ModelRecord(choice.word, choice.model_id, choice.reason),
+                model=ModelRecord(choice.word, choice.model_id, reason),
                 reactive_radius_m=float(reactive_radius_m(rad)),
             )
         )

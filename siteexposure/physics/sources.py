@@ -236,6 +236,16 @@ def _prepared_array(rad, choice: ModelChoice):
     return entry[1]
 
 
+def pattern_note(pattern) -> str | None:
+    """A sentence for the model record where the pattern's 3-D gain is not synthesised from
+    its cuts (a pattern file with a full-sphere table), else None."""
+    from siteexposure.physics.sphere_table import SPHERE_SYNTHESIS
+
+    if getattr(pattern, "synthesis", None) == SPHERE_SYNTHESIS:
+        return "3-D gain from the pattern file's full-sphere table"
+    return None
+
+
 def power_floor_note(choice: ModelChoice) -> str | None:
     """A sentence for the model record where an array model, once built, radiates more than
     the input power to keep the pattern's stated peak gain (see
