@@ -10,7 +10,7 @@ The checks here work on arrays (no line numbers); the reader
 (:mod:`siteexposure.readers.pattern_csv`) runs the same functions first and adds the lines of
 the file to the message.
 
-Pure numpy, no I/O. Angles in degrees in the table, radians at :meth:`SphereTable.gain_dbi`
+Pure numpy, no I/O. Angles in degrees in the table, radians at :meth:`SphereTable.lookup_dbi`
 (antenna frame of :mod:`siteexposure.physics.orientation`).
 """
 

@@ -146,23 +146,21 @@ def _sphere_row(src: str, n: int, line: str, row: list[str], rows: SphereRows) -
         raise _err(src, n, f"the 3-D table has more than {MAX_SPHERE_CELLS} rows; expected a grid "
                            f"of at most {MAX_SPHERE_CELLS} cells (a 1 deg grid has 361 x 181 = "
                            "65341)")
-    angles = []
-    for name, text, lo, hi, what in (
-        ("azimuth_deg", row[0], 0.0, 360.0, "an azimuth within 0..360 deg"),
-        ("elevation_deg", row[1], -90.0, 90.0, "an elevation within -90..+90 deg"),
-    ):
-        value = _parse_number(text)
-        if value is None:
-            raise _err(src, n, f"{name} = {_short(text)}; expected a finite number, {what}")
-        if not lo <= value <= hi:
-            raise _err(src, n, f"{name} = {text} is out of range; expected {what}")
-        angles.append(value)
-    gain = _parse_number(row[2])
+    az, el, gain = _parse_number(row[0]), _parse_number(row[1]), _parse_number(row[2])
+    if az is None or el is None or not (0.0 <= az <= 360.0 and -90.0 <= el <= 90.0):
+        for name, text, value, lo, hi, what in (
+            ("azimuth_deg", row[0], az, 0.0, 360.0, "an azimuth within 0..360 deg"),
+            ("elevation_deg", row[1], el, -90.0, 90.0, "an elevation within -90..+90 deg"),
+        ):
+            if value is None:
+                raise _err(src, n, f"{name} = {_short(text)}; expected a finite number, {what}")
+            if not lo <= value <= hi:
+                raise _err(src, n, f"{name} = {text} is out of range; expected {what}")
     if gain is None or not GAIN_RANGE_DBI[0] <= gain <= GAIN_RANGE_DBI[1]:
         raise _err(src, n, f"gain_dbi = {_short(row[2])}; expected a finite gain in dBi within "
                            f"{GAIN_RANGE_DBI[0]:g}..{GAIN_RANGE_DBI[1]:g}")
-    rows.az.append(angles[0])
-    rows.el.append(angles[1])
+    rows.az.append(az)
+    rows.el.append(el)
     rows.gain.append(gain)
     rows.line.append(n)
 
@@ -226,8 +224,11 @@ def parse_pattern_text(text: str, src: str) -> tuple[dict, dict, SphereRows | No
         line = lines[n - 1].strip()
         if not line or line.startswith("#"):
             continue
-        row = [f.strip() for f in _fields(line, src, n)]
-        if tuple(f.lower() for f in row) == SPHERE_HEADER:
+        if sphere is not None and '"' not in line and len(line) < 256:
+            row = [f.strip() for f in line.split(",")]  # what the csv rules give such a line
+        else:
+            row = [f.strip() for f in _fields(line, src, n)]
+        if row[0][:1] in "aA" and tuple(f.lower() for f in row) == SPHERE_HEADER:
             if sphere is not None:
                 raise _err(src, n, f"a second 3-D table header (the first is on line "
                                    f"{sphere.header_line}); expected one 3-D table")
@@ -438,9 +439,10 @@ def _check_sphere(src: str, rows: SphereRows, cuts: dict, arrays: dict, peak: fl
                                          "one direction)")
     i_top = np.unravel_index(int(np.argmax(g)), g.shape)
     if abs(peak - float(g[i_top])) > PEAK_TOLERANCE_DB:
-        raise _err(src, _peak_line(text), f"peak_gain_dbi = {peak:g} but the largest gain in the 3-D "
-                                   f"table is {g[i_top]:g} dBi (line {ln[i_top]}); expected "
-                                   f"agreement within {PEAK_TOLERANCE_DB:g} dB")
+        raise _err(src, _peak_line(text),
+                   f"peak_gain_dbi = {peak:g} but the largest gain in the 3-D table is "
+                   f"{g[i_top]:g} dBi (line {ln[i_top]}); expected agreement within "
+                   f"{PEAK_TOLERANCE_DB:g} dB")
     checked = SimpleNamespace(
         h_angle_deg=arrays["horizontal"][0], h_gain_dbi=arrays["horizontal"][1],
         v_front_elev_deg=arrays["front"][0], v_front_gain_dbi=arrays["front"][1],
@@ -492,9 +494,9 @@ def pattern_from_text(text: str, src: str, *, method: str = DEFAULT_SYNTHESIS_ME
     all_rows = [r for rows in cuts.values() for r in rows]
     top = max(all_rows, key=lambda r: r[1])
     if abs(peak - top[1]) > PEAK_TOLERANCE_DB:
-        raise _err(src, _peak_line(text), f"peak_gain_dbi = {peak:g} but the largest gain in the table is "
-                                   f"{top[1]:g} dBi (line {top[2]}); expected agreement within "
-                                   f"{PEAK_TOLERANCE_DB:g} dB")
+        raise _err(src, _peak_line(text),
+                   f"peak_gain_dbi = {peak:g} but the largest gain in the table is {top[1]:g} dBi "
+                   f"(line {top[2]}); expected agreement within {PEAK_TOLERANCE_DB:g} dB")
     sphere = (None if sphere_rows is None
               else _check_sphere(src, sphere_rows, cuts, arrays, peak, text))
     (ha, hg), (fa, fg), (ba, bg) = arrays["horizontal"], arrays["front"], arrays["back"]
