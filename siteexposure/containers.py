@@ -18,6 +18,7 @@ from siteexposure.physics.radiator import Radiator
 
 ACCESS_WORDS = ("public", "worker", "none")
 MODEL_WORDS = ("auto", "far-field", "cylindrical", "array", "aperture")
+POLARIZATION_WORDS = ("vertical", "horizontal", "slant", "circular")
 POPULATION_FOR_ACCESS = {"public": "general", "worker": "occupational"}
 
 
@@ -89,6 +90,10 @@ class Antenna:
     aperture_height_m: float | None = None
     aperture_width_m: float | None = None
     diameter_m: float | None = None
+    aperture_depth_m: float | None = None  #: body depth along boresight (dish: feed) [m]
+    body_offset_m: tuple[float, float, float] = (0.0, 0.0, 0.0)  #: body centre, antenna frame [m]
+    polarization: str = "vertical"  #: vertical | horizontal | slant | circular
+    ground_plane: bool = False  #: a monopole on a conducting ground at the body's lower end
     model: str = "auto"
     reflection_factor: float = 1.0  #: field-strength-squared factor F of S = P G F / (4 pi r^2)
 
@@ -128,6 +133,10 @@ class Antenna:
             aperture_height_m=self.aperture_height_m,
             aperture_width_m=self.aperture_width_m,
             diameter_m=self.diameter_m,
+            aperture_depth_m=self.aperture_depth_m,
+            body_offset_m=tuple(float(v) for v in self.body_offset_m),
+            polarization=self.polarization,
+            ground_plane=bool(self.ground_plane),
             reflection_factor=self.reflection_factor,
         )
 

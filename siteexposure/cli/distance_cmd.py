@@ -7,7 +7,7 @@
   3GPP TR 38.901 pattern form when ``--hpbw-h`` is below 360, an ITU-R F.1336 omni
   otherwise) and the near-field-aware distances in front, behind, to the sides, above and
   below come from the field model ``--model`` (default ``auto``), measured as
-  :func:`siteexposure.physics.sources.keep_out_distances` describes.
+  :mod:`siteexposure.physics.keepout` describes.
 * ``--json``: one JSON object on stdout with ``limit_w_m2``, ``distance_m`` (``boresight``
   always; ``front``, ``behind``, ``left``, ``right``, ``above``, ``below`` with an aperture
   height), the inputs echoed, the models used, notes and the cautions.
@@ -183,12 +183,8 @@ def distance_result(
         from siteexposure.physics.cylindrical import power_consistent_beamwidth_deg
         from siteexposure.physics.patterns import parametric_pattern
         from siteexposure.physics.radiator import Radiator
-        from siteexposure.physics.sources import (
-            choose_model,
-            keep_out_distances,
-            power_floor_note,
-            reactive_radius_m,
-        )
+        from siteexposure.physics.keepout import KeepOutSearch
+        from siteexposure.physics.sources import choose_model, model_notes, standoff_distance_m
 
         inputs["aperture_height_m"] = aperture_height_m
         sector = hpbw_h_deg is not None and hpbw_h_deg < 360.0
@@ -240,23 +236,26 @@ def distance_result(
             reflection_factor=reflection_factor,
         )
         choice = choose_model(rad, model)
-        keep = keep_out_distances(rad, choice, limit)
+        found = KeepOutSearch(rad, choice).boundary(limit)
+        keep = found.distances_m
         out["distance_m"].update(keep)
-        r0 = reactive_radius_m(rad)
-        out["reactive_radius_m"] = r0
+        out["keep_out_box_m"] = found.box_m
+        out["keep_out_cylinder_m"] = found.cylinder_m
+        r0 = standoff_distance_m(rad)
+        out["standoff_m"] = r0
         out["pattern"] = {"model": spec["model"], "source": pattern.source, **pattern.params}
         out["models"]["directions"] = {
             "word": choice.word,
             "model_id": choice.model_id,
             "reason": choice.reason,
         }
-        note = power_floor_note(choice)
-        if note:
+        for note in model_notes(rad, choice):
             notes.append(f"The {choice.model_id} model: {note}.")
         r_boundary = float(far_field_boundary_m(aperture_height_m, lam))
         notes.append(
-            f"Within {r0:.3g} m of the radiation centre (reactive near field) the "
-            "models do not apply: treat that zone as part of the keep-out zone."
+            f"Distances are measured from the antenna's body (a column {aperture_height_m:g} m "
+            f"high). Within {r0:.3g} m of it (lambda/2pi, the reactive field of the elements) "
+            "nothing is assessed: that zone is part of the keep-out zone."
         )
         if keep["front"] > boresight * (1 + 1e-6):
             notes.append(
@@ -282,10 +281,11 @@ def distance_result(
     return out
 
 
-_ORDER = ("boresight", "front", "behind", "left", "right", "above", "below")
+_ORDER = ("boresight", "along_beam", "front", "behind", "left", "right", "above", "below")
 _LABEL = {
     "boresight": "boresight (far-field formula)",
-    "front": "front (horizontal, at boresight azimuth)",
+    "along_beam": "along the beam (tilt included), from the body",
+    "front": "front (horizontal, at boresight azimuth), from the body",
     "behind": "behind",
     "left": "left",
     "right": "right",

@@ -41,14 +41,20 @@ def load_limit_sets(site: Site) -> dict:
     return {sid: load_limit_set(sid) for sid in site.limits}
 
 
-def build_sources(site: Site) -> tuple[list[Source], list[AntennaResult]]:
-    """Radiators with their chosen model, and the per-antenna records."""
-    from siteexposure.physics.sources import choose_model, pattern_note, reactive_radius_m
+def build_sources(site: Site, cache=None) -> tuple[list[Source], list[AntennaResult]]:
+    """Radiators with their chosen model, and the per-antenna records.
 
+    ``cache`` (a :class:`~siteexposure.physics.cache.ModelCache`) holds the work antennas
+    share (taper fits, pattern tables); one per run when not given.
+    """
+    from siteexposure.physics.cache import ModelCache
+    from siteexposure.physics.sources import choose_model, pattern_note, standoff_distance_m
+
+    cache = cache if cache is not None else ModelCache()
     sources, records = [], []
     for ant in site.antennas:
         rad = ant.radiator()
-        choice = choose_model(rad, ant.model)
+        choice = choose_model(rad, ant.model, cache)
         sources.append(Source(ant.id, rad, choice))
         note = pattern_note(rad.pattern)
         reason = choice.reason if note is None else f"{choice.reason}; {note}"
@@ -56,7 +62,7 @@ def build_sources(site: Site) -> tuple[list[Source], list[AntennaResult]]:
             AntennaResult(
                 antenna=ant,
                 model=ModelRecord(choice.word, choice.model_id, reason),
-                reactive_radius_m=float(reactive_radius_m(rad)),
+                standoff_m=float(standoff_distance_m(rad)),
             )
         )
     return sources, records
@@ -396,7 +402,9 @@ def evaluate_point(site: Site, at_m, *, name: str = "point", access: str = "publ
             )
     reason = ""
     if bad:
-        reason = "inside the reactive near field of " + ", ".join(bad) + " (closer than max(λ/2π, 0.62·√(D³/λ))); these models cannot assess it"
+        reason = ("within the stand-off of " + ", ".join(bad) + " (closer than λ/2π to the "
+                  "antenna's body, or below its ground plane): no model assesses the reactive "
+                  "field of the elements there")
     return PointResult(
         name=name,
         at_m=at,
@@ -409,35 +417,32 @@ def evaluate_point(site: Site, at_m, *, name: str = "point", access: str = "publ
 
 
 def _note_power_floor(sources, records) -> None:
-    """Add to the model record of each array model that radiates more than its input power
-    (to keep the pattern's stated peak gain) how much more."""
+    """Add what each built model says of itself (e.g. an array model that radiates more than
+    its input power to keep the pattern's stated peak gain) to its record."""
     from dataclasses import replace
 
-    from siteexposure.physics.sources import power_floor_note
+    from siteexposure.physics.sources import model_notes
 
     for src, rec in zip(sources, records, strict=True):
-        note = power_floor_note(src.choice)
-        if note:
-            rec.model = replace(rec.model, reason=f"{rec.model.reason}; {note}")
+        notes = model_notes(src.radiator, src.choice)
+        if notes:
+            rec.model = replace(rec.model, reason="; ".join((rec.model.reason, *notes)))
 
 
 def _keep_out(sources, records, table: ComboTable) -> None:
-    """Per-antenna compliance boundaries against each set's whole-body limit.
-
-    Each distance is at least the antenna's reactive-near-field radius: the models cannot
-    assess points closer than that, so they are keep-out whatever the field estimate says.
-    """
-    from siteexposure.physics.sources import keep_out_distances
+    """Per-antenna compliance boundaries against each set's whole-body limit, in 3-D
+    (:mod:`siteexposure.physics.keepout`): distances from the envelope, along the beam, and
+    the box and cylinder a crew can mark out. The stand-off is part of every zone."""
+    from siteexposure.physics.keepout import KeepOutSearch
 
     for n, (src, rec) in enumerate(zip(sources, records, strict=True)):
+        search = KeepOutSearch(src.radiator, src.choice)
         for i, combo in enumerate(table.combos):
             if combo.region != "whole-body":
                 continue
             limit = float(table.limits_w_m2[i, n])
             key = (combo.set_id, combo.population)
             rec.limit_w_m2[key] = limit
-            # inside the reactive radius nothing is assessable: it is keep-out whatever the model says
-            rec.keep_out_m[key] = {
-                k: max(float(v), rec.reactive_radius_m)
-                for k, v in keep_out_distances(src.radiator, src.choice, limit).items()
-            }
+            found = search.boundary(limit)
+            rec.keep_out_m[key] = dict(found.distances_m)
+            rec.keep_out_shape[key] = {"box": found.box_m, "cylinder": found.cylinder_m}

@@ -33,9 +33,12 @@ class AntennaResult:
 
     antenna: Antenna
     model: ModelRecord
-    reactive_radius_m: float
-    #: keep-out distances per (set, population): {"front": m, "behind": m, ...}
+    standoff_m: float  #: nothing is assessed closer than this to the body (lambda/2pi) [m]
+    #: keep-out distances per (set, population), from the envelope:
+    #: {"front": m, "behind": m, "left", "right", "above", "below", "along_beam"}
     keep_out_m: dict[Key, dict[str, float]] = field(default_factory=dict)
+    #: simple shapes per (set, population): {"box": {...}, "cylinder": {...}} [m]
+    keep_out_shape: dict[Key, dict[str, dict[str, float]]] = field(default_factory=dict)
     limit_w_m2: dict[Key, float] = field(default_factory=dict)
 
 

@@ -273,3 +273,42 @@ def aperture_power_density(rad: Radiator, points_enu: ArrayLike) -> np.ndarray:
     off = np.fmin(s_ax, np.fmax(OFF_AXIS_REDUCTION * s_ax, s_pat))
     near = np.where(in_tube, s_ax, off)
     return np.where(r >= r_ff, s_pat, near)
+
+
+class ApertureModel:
+    """Field-model face (:mod:`siteexposure.physics.fieldmodels`) of the OET-65 aperture
+    model, as a plane wave (E and H densities equal).
+
+    It describes the beam of the dish from its aperture plane outwards; behind the aperture
+    plane (the bowl, its rim and what is behind it) it is validated only in the far field,
+    so ``auto`` bounds it there (:mod:`siteexposure.physics.bound`).
+    """
+
+    word = "aperture"
+    model_id = "oet65-aperture"
+
+    def __init__(self, rad: Radiator) -> None:
+        from siteexposure.physics.regions import far_field_range_m
+
+        if not rad.diameter_m or rad.diameter_m <= 0:
+            raise InputError(f"antenna aperture diameter_m: {rad.diameter_m!r}; the aperture "
+                             "model needs a positive dish diameter")
+        self.rad = rad
+        self.far_field_range_m = max(
+            far_field_range_m(rad.wavelength_m, rad.body.largest_dimension_m),
+            float(far_field_onset_m(rad.diameter_m, rad.wavelength_m)))
+        self.notes: tuple[str, ...] = ()
+
+    @classmethod
+    def from_radiator(cls, rad: Radiator, cache=None) -> ApertureModel:
+        return cls(rad)
+
+    def fields(self, points_enu):
+        from siteexposure.physics.fieldmodels import Fields
+
+        return Fields.plane_wave(aperture_power_density(self.rad, points_enu))
+
+    def validated(self, points_ant) -> np.ndarray:
+        p = np.asarray(points_ant, dtype=float)
+        return (p[..., 0] >= 0.0) | (np.einsum("...i,...i->...", p, p)
+                                        >= self.far_field_range_m**2)

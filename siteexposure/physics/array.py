@@ -94,6 +94,7 @@ from siteexposure.errors import InputError
 from siteexposure.physics.orientation import antenna_angles, to_antenna_frame
 from siteexposure.physics.pattern_base import dbi_to_linear, linear_to_dbi
 from siteexposure.physics.radiator import Radiator
+from siteexposure.physics.regions import far_field_range_m
 
 MIN_SUB_SOURCES = 5  #: at least this many elements, however short the aperture [1]
 PREFERRED_SPACING_WL = 0.25  #: element spacing aimed at, in wavelengths [1]
@@ -107,31 +108,6 @@ NULL_DEPTH_DB = 6.0  #: a sample this far below the lobes on both sides is in a 
 NULL_HALF_WIDTH_DEG = 10.0  #: how far to each side the lobes of a null are looked for [deg]
 _FIT_STEP_DEG = 0.5
 _CHUNK_ELEMENTS = 1_500_000  # (n_sub x n_point) block size of the near-field sum
-
-
-def reactive_radius_m(wavelength_m: float, largest_dimension_m: float) -> float:
-    """Radius of the reactive near field ``max(lambda/(2 pi), 0.62 sqrt(D^3/lambda))``. [m]
-
-    References
-    ----------
-    Balanis, Antenna Theory, 4th ed., sec. 2.2.4 (0.62 sqrt(D^3/lambda)); lambda/(2 pi) is
-    the radius where the near and far terms of a small dipole are equal (ibid. sec. 4.2).
-    """
-    lam = float(wavelength_m)
-    d = float(largest_dimension_m)
-    return max(lam / (2.0 * np.pi), 0.62 * np.sqrt(d**3 / lam) if d > 0 else 0.0)
-
-
-def far_field_range_m(wavelength_m: float, largest_dimension_m: float) -> float:
-    """Start of the far field ``max(2 L^2/lambda, 3 lambda, 5 L)``. [m]
-
-    References
-    ----------
-    Balanis, Antenna Theory, 4th ed., sec. 2.2.4 (2 D^2/lambda); the 3 lambda and 5 L
-    minimums are common practice for small antennas.
-    """
-    lam, big = float(wavelength_m), float(largest_dimension_m)
-    return max(2.0 * big**2 / lam, 3.0 * lam, 5.0 * big)
 
 
 def n_sub_sources(height_m: float, wavelength_m: float) -> int:
@@ -489,7 +465,7 @@ class ArraySynthesis:
 
     # ------------------------------------------------------------------ construction
     @classmethod
-    def from_radiator(cls, rad: Radiator) -> ArraySynthesis:
+    def from_radiator(cls, rad: Radiator, cache=None) -> ArraySynthesis:
         """Build the columns for ``rad`` (needs ``rad.aperture_height_m``).
 
         Parameters
@@ -520,7 +496,7 @@ class ArraySynthesis:
             raise InputError(f"antenna frequency = {rad.frequency_hz!r} Hz: expected > 0")
         lam = C0 / rad.frequency_hz
         z, unit, table, table_far, corr, p_unit, u_peak, tilt = _column_shape(
-            rad.pattern, float(rad.frequency_hz), float(h), float(rad.electrical_tilt_deg)
+            rad.pattern, float(rad.frequency_hz), float(h), float(rad.electrical_tilt_deg), cache
         )
         g_model = 4.0 * np.pi * u_peak / p_unit  # far-field peak gain with P radiated
         boost = max(1.0, float(dbi_to_linear(rad.pattern.peak_gain_dbi)) / g_model)
@@ -537,7 +513,7 @@ class ArraySynthesis:
             vertical_correction=corr,
             far_field_range_m=far_field_range_m(lam, rad.largest_dimension_m or h),
             reflection_factor=float(rad.reflection_factor),
-            reactive_radius_m=reactive_radius_m(lam, rad.largest_dimension_m),
+            reactive_radius_m=0.0,  # the dispatcher keeps the stand-off from the body
             column_clearance_m=lam / (2.0 * np.pi),
             power_w=float(rad.power_w),
             electrical_tilt_deg=tilt,
@@ -693,56 +669,35 @@ def _radiated_power(w, z, k, table) -> tuple[float, float]:
 
 
 
-_SHAPES: dict = {}  # (id(pattern), f, h, tilt) -> (pattern, shape)
-_SHAPES_BY_CONTENT: dict = {}  # (digest of what the fit reads, f, h, tilt) -> shape
-_SHAPES_SIZE = 64
-
-
-def _content_key(arrays, *scalars) -> tuple:
-    """A key for the exact values the fit reads: SHA-256 of the arrays' bytes, and scalars."""
-    import hashlib
-
-    digest = hashlib.sha256()
-    for a in arrays:
-        a = np.ascontiguousarray(a, dtype=float)
-        digest.update(str(a.shape).encode())
-        digest.update(a.tobytes())
-    return (digest.hexdigest(), *scalars)
-
-
-def _remember(memo: dict, key, value) -> None:
-    if len(memo) >= _SHAPES_SIZE:
-        memo.pop(next(iter(memo)))
-    memo[key] = value
-
-
-def _column_shape(pattern, frequency_hz: float, h: float, electrical_tilt_deg: float) -> tuple:
+def _column_shape(pattern, frequency_hz: float, h: float, electrical_tilt_deg: float,
+                  cache=None) -> tuple:
     """The orientation- and power-independent part of an array model, memoised.
 
     Antennas that share a pattern, frequency, aperture height and tilt (the sectors of one
     operator's band, or the same antenna type on many sites of a batch) share one taper fit
     and one sphere integral; only position, orientation and power differ, and those are
-    applied afterwards. The memo is keyed by the pattern object and, behind it, by the
-    values the fit reads (the element tables and front cut of :func:`_element_table`, the
-    tilt in the data): the same pattern read again from another file, or written inline
-    twice, is fitted once. Returns ``(z_m, unit_moments, element_table, element_table_far,
-    vertical_correction, p_unit, u_peak, tilt)``.
+    applied afterwards. The memo lives in the engine's
+    :class:`~siteexposure.physics.cache.ModelCache` and is keyed by the pattern object and,
+    behind it, by the values the fit reads (the element tables and front cut of
+    :func:`_element_table`, the tilt in the data): the same pattern read again from another
+    file, or written inline twice, is fitted once. Returns ``(z_m, unit_moments,
+    element_table, element_table_far, vertical_correction, p_unit, u_peak, tilt)``.
     """
+    from siteexposure.physics.cache import ModelCache, content_key
+
+    cache = cache if cache is not None else ModelCache()
+
+    def build():
+        table, table_far, el, g_v = _element_table(pattern)
+        tilt_data = float(getattr(pattern, "electrical_tilt_deg", 0.0) or 0.0)
+        # a table pattern carries its own tilt; a parametric one is built with the radiator's
+        tilt = tilt_data if hasattr(pattern, "h_angle_deg") else float(electrical_tilt_deg)
+        ckey = content_key((table, table_far, el, g_v), tilt_data, tilt, frequency_hz, h)
+        return cache.get("column-shape-content", ckey, lambda: _fit_column_shape(
+            table, table_far, el, g_v, tilt_data, tilt, frequency_hz, h))
+
     key = (id(pattern), frequency_hz, h, electrical_tilt_deg)
-    hit = _SHAPES.get(key)
-    if hit is not None and hit[0] is pattern:
-        return hit[1]
-    table, table_far, el, g_v = _element_table(pattern)
-    tilt_data = float(getattr(pattern, "electrical_tilt_deg", 0.0) or 0.0)
-    # a table pattern carries its own tilt; a parametric one is built with the radiator's
-    tilt = tilt_data if hasattr(pattern, "h_angle_deg") else float(electrical_tilt_deg)
-    ckey = _content_key((table, table_far, el, g_v), tilt_data, tilt, frequency_hz, h)
-    out = _SHAPES_BY_CONTENT.get(ckey)
-    if out is None:
-        out = _fit_column_shape(table, table_far, el, g_v, tilt_data, tilt, frequency_hz, h)
-        _remember(_SHAPES_BY_CONTENT, ckey, out)
-    _remember(_SHAPES, key, (pattern, out))  # holding the pattern keeps its id unique
-    return out
+    return cache.get("column-shape", key, build, hold=(pattern,))
 
 
 def _fit_column_shape(table, table_far, el, g_v, tilt_data: float, tilt: float,
@@ -769,40 +724,14 @@ def _fit_column_shape(table, table_far, el, g_v, tilt_data: float, tilt: float,
     p_unit, u_peak = _radiated_power(unit, z, k, table_far * corr[None, :])
     return (z, unit, table, table_far, corr, p_unit, u_peak, tilt)
 
-_CACHE: dict = {}
-_CACHE_SIZE = 64
-
-
-def _cache_key(rad: Radiator) -> tuple:
-    return (
-        tuple(np.asarray(rad.position_m, dtype=float).reshape(3).tolist()),
-        rad.azimuth_deg, rad.mechanical_tilt_deg, rad.electrical_tilt_deg, rad.frequency_hz,
-        rad.power_w, id(rad.pattern), rad.aperture_height_m, rad.aperture_width_m,
-        rad.diameter_m, rad.reflection_factor,
-    )
-
-
-def array_model(rad: Radiator) -> ArraySynthesis:
-    """The :class:`ArraySynthesis` of ``rad``, built once and reused for later chunks."""
-    key = _cache_key(rad)
-    hit = _CACHE.get(key)
-    if hit is not None and hit[0] is rad.pattern:
-        return hit[1]
-    model = ArraySynthesis.from_radiator(rad)
-    if len(_CACHE) >= _CACHE_SIZE:
-        _CACHE.pop(next(iter(_CACHE)))
-    _CACHE[key] = (rad.pattern, model)  # holding the pattern keeps its id unique
-    return model
-
-
 def array_power_density(rad: Radiator, points_enu) -> tuple[np.ndarray, np.ndarray]:
     """Array-synthesis density of one radiator at field points.
 
     Parameters
     ----------
     rad : Radiator
-        The antenna (needs ``aperture_height_m``). The column is built on the first call and
-        reused for further chunks of the same radiator (see :func:`array_model`).
+        The antenna (needs ``aperture_height_m``). The column is built at every call: the
+        engine builds it once per antenna through :class:`ArrayModel`.
     points_enu : array_like, shape (..., 3)
         Field points in the site frame. [m]
 
@@ -811,4 +740,39 @@ def array_power_density(rad: Radiator, points_enu) -> tuple[np.ndarray, np.ndarr
     s_w_m2, assessable : ndarray
         See :meth:`ArraySynthesis.power_density`. [W/m^2], [bool]
     """
-    return array_model(rad).power_density(points_enu)
+    return ArraySynthesis.from_radiator(rad).power_density(points_enu)
+
+
+class ArrayModel:
+    """Field-model face (:mod:`siteexposure.physics.fieldmodels`) of array synthesis.
+
+    Validated against the method-of-moments references of tests/data/nec from the stand-off
+    of the body outwards (accuracy table in the README).
+    """
+
+    word = "array"
+    model_id = "array-synthesis"
+
+    def __init__(self, rad: Radiator, synthesis: ArraySynthesis) -> None:
+        self.rad = rad
+        self.synthesis = synthesis
+        notes = []
+        ratio = float(synthesis.radiated_power_ratio)
+        if ratio > 1.001:
+            notes.append(f"its far field is held at the pattern's stated peak gain, so it "
+                         f"radiates {100.0 * (ratio - 1.0):.1f} % more than the input power "
+                         "(the pattern's 3-D gain integrates to more than 4 pi; conservative)")
+        self.notes = tuple(notes)
+
+    @classmethod
+    def from_radiator(cls, rad: Radiator, cache=None) -> ArrayModel:
+        return cls(rad, ArraySynthesis.from_radiator(rad, cache))
+
+    def fields(self, points_enu):
+        from siteexposure.physics.fieldmodels import Fields
+
+        s, ok = self.synthesis.power_density(points_enu)
+        return Fields.plane_wave(np.where(ok, s, np.nan))
+
+    def validated(self, points_ant) -> np.ndarray:
+        return np.ones(np.asarray(points_ant).shape[:-1], dtype=bool)

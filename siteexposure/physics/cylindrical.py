@@ -324,3 +324,42 @@ def cylindrical_power_density(
     s = np.where(inside & (rho < r_c), s_cyl, np.fmin(s_cyl, s_ff))
     on_axis = inside & (rho < rad.wavelength_m / (2.0 * np.pi))
     return np.where(on_axis, np.nan, s)
+
+
+class CylindricalModel:
+    """Field-model face (:mod:`siteexposure.physics.fieldmodels`) of the OET-65 cylindrical
+    model, as a plane wave (E and H densities equal).
+
+    Validated, in the method-of-moments table of tests/data/nec, only where it hands over to
+    the far field (beyond ``max(2 L^2/lambda, 3 lambda, 5 L)``): closer in it is a spatial
+    average over the aperture height that can fall tens of dB below the field off the beam
+    and beyond the aperture's ends, so ``auto`` never picks it and, if it were used under
+    ``auto``, would bound it there.
+    """
+
+    word = "cylindrical"
+    model_id = "oet65-cylindrical"
+
+    def __init__(self, rad: Radiator) -> None:
+        from siteexposure.physics.regions import far_field_range_m
+
+        if not rad.aperture_height_m or rad.aperture_height_m <= 0:
+            raise InputError(f"antenna aperture height: {rad.aperture_height_m!r}; the "
+                             "cylindrical model needs a positive aperture height_m")
+        self.rad = rad
+        self.far_field_range_m = far_field_range_m(rad.wavelength_m,
+                                                   rad.body.largest_dimension_m)
+        self.notes: tuple[str, ...] = ()
+
+    @classmethod
+    def from_radiator(cls, rad: Radiator, cache=None) -> CylindricalModel:
+        return cls(rad)
+
+    def fields(self, points_enu):
+        from siteexposure.physics.fieldmodels import Fields
+
+        return Fields.plane_wave(cylindrical_power_density(self.rad, points_enu))
+
+    def validated(self, points_ant) -> np.ndarray:
+        p = np.asarray(points_ant, dtype=float)
+        return np.einsum("...i,...i->...", p, p) >= self.far_field_range_m**2

@@ -252,3 +252,38 @@ def farfield_power_density(rad: Radiator, points_enu: ArrayLike) -> np.ndarray:
     r, phi, theta = antenna_angles(xa, ya, za)
     gain = rad.pattern.gain(phi, theta)
     return far_field_power_density_w_m2(rad.power_w, gain, r, rad.reflection_factor)
+
+
+class FarFieldModel:
+    """Field-model face (:mod:`siteexposure.physics.fieldmodels`) of the far-field formula.
+
+    ``S = P G(phi, theta) F / (4 pi r^2)`` with ``r`` from the radiation centre, as a plane
+    wave (E and H densities equal). Validated (method-of-moments table of tests/data/nec)
+    beyond the far-field range ``max(2 L^2/lambda, 3 lambda, 5 L)`` of the antenna's body;
+    closer in it overstates the main beam and can understate a great deal off it (into the
+    pattern's nulls), so ``auto`` bounds it there (:mod:`siteexposure.physics.bound`).
+    """
+
+    word = "far-field"
+    model_id = "far-field-friis"
+
+    def __init__(self, rad: Radiator, body=None) -> None:
+        from siteexposure.physics.regions import far_field_range_m
+
+        self.rad = rad
+        self.body = rad.body if body is None else body
+        self.far_field_range_m = far_field_range_m(rad.wavelength_m, self.body.largest_dimension_m)
+        self.notes: tuple[str, ...] = ()
+
+    @classmethod
+    def from_radiator(cls, rad: Radiator, cache=None, body=None) -> FarFieldModel:
+        return cls(rad, body)
+
+    def fields(self, points_enu):
+        from siteexposure.physics.fieldmodels import Fields
+
+        return Fields.plane_wave(farfield_power_density(self.rad, points_enu))
+
+    def validated(self, points_ant) -> np.ndarray:
+        p = np.asarray(points_ant, dtype=float)
+        return np.einsum("...i,...i->...", p, p) >= self.far_field_range_m**2

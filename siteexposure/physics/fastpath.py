@@ -155,21 +155,32 @@ def _exp_series(y):
 
 
 @_jit(cache=True, inline="always")
-def _geometry(m, f, it, o, ax, r2_min):
+def _clear2(xa, ya, za, box):
+    """Squared distance of an antenna-frame point from the body box ``box[:6]`` (centre,
+    half-extents). [m^2]"""
+    qx = max(abs(xa - box[0]) - box[3], 0.0)
+    qy = max(abs(ya - box[1]) - box[4], 0.0)
+    qz = max(abs(za - box[2]) - box[5], 0.0)
+    return qx * qx + qy * qy + qz * qz
+
+
+@_jit(cache=True, inline="always")
+def _geometry(m, f, it, o, ax, box):
     """Rows of ``f`` for the first ``m`` points of a block: from ``px, py, pz`` (rows 0-2)
     to ``1/r^2`` (row 3; 0 where not assessable), ``phi`` in [0, 360] (row 4), ``|phi'|``
-    (row 5) and the elevation (row 6) [deg]; ``it[0]`` flags points not assessable.
-    Returns their number. Vectorises: no data-dependent branches."""
+    (row 5) and the elevation (row 6) [deg]; ``it[0]`` flags points not assessable (within
+    the stand-off ``sqrt(box[6])`` of the body box ``box[:6]``). Returns their number.
+    Vectorises: no data-dependent branches."""
     n_out = 0
     for q in range(m):
         dx = f[0, q] - o[0]
         dy = f[1, q] - o[1]
         dz = f[2, q] - o[2]
         r2 = dx * dx + dy * dy + dz * dz
-        ok = r2 >= r2_min  # the same test as sqrt(r2) >= radius, see _r2_threshold
         xa = dx * ax[0] + dy * ax[1] + dz * ax[2] + 0.0  # +0.0: a zero sum is +0, as in BLAS
         ya = dx * ax[3] + dy * ax[4] + dz * ax[5]
         za = dx * ax[6] + dy * ax[7] + dz * ax[8]
+        ok = _clear2(xa, ya, za, box) >= box[6] and r2 > 0.0  # see _r2_threshold
         a = atan2_kernel(-ya, xa) * _R2D
         e = math.copysign(_atan_first_quadrant(abs(za), math.sqrt(xa * xa + ya * ya)), za)
         f[3, q] = 1.0 / r2 if ok else 0.0
@@ -182,7 +193,7 @@ def _geometry(m, f, it, o, ax, r2_min):
 
 
 @_jit(cache=True, inline="always")
-def _geometry_lines(m, group, f, it, o, ax, r2_min, h_node, h_slope, h_off, hn):
+def _geometry_lines(m, group, f, it, o, ax, box, h_node, h_slope, h_off, hn):
     """:func:`_geometry` for vertical lines of ``group`` points and an antenna without
     mechanical tilt (``x_a``, ``y_a`` constant along a line): ``phi`` and the horizontal cut
     once per line, spread over its points (cut value in row 9, rows 4 and 10 zero, as
@@ -207,12 +218,14 @@ def _geometry_lines(m, group, f, it, o, ax, r2_min, h_node, h_slope, h_off, hn):
             f[11, q] = r2_xy
             f[12, q] = z_xy
             f[13, q] = rho
+            f[14, q] = xa
+            f[16, q] = ya
     n_out = 0
     for q in range(m):  # per point, vectorised
         dz = f[2, q] - o[2]
         r2 = f[11, q] + dz * dz
-        ok = r2 >= r2_min
         za = f[12, q] + dz * ax[8]
+        ok = _clear2(f[14, q], f[16, q], za, box) >= box[6] and r2 > 0.0
         e = math.copysign(_atan_first_quadrant(abs(za), f[13, q]), za)
         f[3, q] = 1.0 / r2 if ok else 0.0
         f[4, q] = 0.0
@@ -295,7 +308,7 @@ def _bilinear(m, f, el_deg):
 
 
 @_jit(parallel=True, fastmath={"contract"}, cache=True)
-def _ratio_kernel(pts, pos, axes, kfac, r2_min, method, gfloor, vf0, vb0, h_node, h_slope,
+def _ratio_kernel(pts, pos, axes, kfac, box, method, gfloor, vf0, vb0, h_node, h_slope,
                   h_off, h_n, vf_node, vf_slope, vb_node, vb_slope, v_off, v_n,
                   exp_table, exp_k0, weights, group, is_max, lines, out):
     """``sum_i weights[c, i] S_i(p)``, NaN where a weighted source is not assessable, reduced
@@ -328,10 +341,10 @@ def _ratio_kernel(pts, pos, axes, kfac, r2_min, method, gfloor, vf0, vb0, h_node
                 hn, vn = h_n[i], v_n[i]
                 per_line = lines and method[i] == 0 and axes[i, 2] == 0.0 and axes[i, 5] == 0.0
                 if per_line:
-                    n_out = _geometry_lines(m, group, f, it, pos[i], axes[i], r2_min[i], h_node,
+                    n_out = _geometry_lines(m, group, f, it, pos[i], axes[i], box[i], h_node,
                                             h_slope, h_off[i], hn)
                 else:
-                    n_out = _geometry(m, f, it, pos[i], axes[i], r2_min[i])
+                    n_out = _geometry(m, f, it, pos[i], axes[i], box[i])
                 if method[i] == 1:  # the elevation, and the opposite azimuth phi + 180 deg
                     for q in range(m):
                         el[q] = f[6, q]
@@ -478,7 +491,8 @@ class FarFieldPlan:
     position_m: np.ndarray  #: (n_source, 3) radiation centres (east, north, up) [m]
     axes: np.ndarray  #: (n_source, 9) boresight, left and top unit vectors (site frame) [1]
     kfac_w: np.ndarray  #: P F / (4 pi), so that S = kfac G / r^2 [W]
-    r2_min_m2: np.ndarray  #: smallest squared distance outside the reactive near field [m^2]
+    box_m: np.ndarray  #: (n_source, 7) body box centre, half-extents (antenna frame) [m] and
+    #: the smallest squared distance from it outside the stand-off [m^2]
     method: np.ndarray  #: 0 additive, 1 weighted bilinear
     gain_floor_dbi: np.ndarray  #: lowest gain of the data (floor of the additive rule) [dBi]
     vf0_dbi: np.ndarray  #: front vertical cut at the horizon [dBi]
@@ -507,8 +521,8 @@ def prepare_far_field(radiators: Sequence) -> FarFieldPlan:
     columns); raises :class:`~siteexposure.errors.PatternError` naming the first radiator
     whose pattern the kernel cannot take (see :func:`fast_eligible`)."""
     from siteexposure.errors import PatternError
-    from siteexposure.physics.farfield import reactive_near_field_radius_m
     from siteexposure.physics.orientation import antenna_axes
+    from siteexposure.physics.regions import standoff_m
 
     rads = tuple(radiators)
     tabs = []
@@ -535,8 +549,11 @@ def prepare_far_field(radiators: Sequence) -> FarFieldPlan:
     def offsets(sizes):
         return np.ascontiguousarray(np.concatenate(([0], np.cumsum(sizes)))[:ns], dtype=np.int64)
 
-    radius = [float(reactive_near_field_radius_m(r.largest_dimension_m, r.wavelength_m))
-              for r in rads]
+    def box(rad):
+        c, half = rad.body.box()
+        return np.concatenate([c, half, [_r2_threshold(standoff_m(rad.wavelength_m)
+                                                       * (1.0 - 1e-9))]])
+
     g_lo = min((t.lo_dbi for t in tabs), default=0.0)
     g_hi = max((t.hi_dbi for t in tabs), default=0.0)
     k0 = int(math.floor(10.0 * g_lo)) - 2
@@ -548,7 +565,7 @@ def prepare_far_field(radiators: Sequence) -> FarFieldPlan:
                                   antenna_axes(r.azimuth_deg, r.mechanical_tilt_deg)])
                   for r in rads), width=9),
         kfac_w=col(float(r.power_w) * float(r.reflection_factor) / (4.0 * np.pi) for r in rads),
-        r2_min_m2=col(_r2_threshold(x) for x in radius),
+        box_m=col((box(r) for r in rads), width=7),
         method=col((t.method for t in tabs), np.int64),
         gain_floor_dbi=col(t.floor_dbi for t in tabs),
         vf0_dbi=col(t.vf0_dbi for t in tabs),
@@ -597,21 +614,24 @@ def far_field_ratio_sums_reference(radiators, points_enu, weights) -> np.ndarray
     ----------
     FCC OET Bulletin 65, Ed. 97-01, Section 2, eqs. (3) and (6) (from memory).
     """
-    from siteexposure.physics.farfield import farfield_power_density, reactive_near_field_radius_m
+    from siteexposure.physics.body import to_antenna_frame_points
+    from siteexposure.physics.farfield import farfield_power_density
+    from siteexposure.physics.regions import standoff_m
 
     rads = radiators.radiators if isinstance(radiators, FarFieldPlan) else tuple(radiators)
     pts, w = _points_and_weights(points_enu, weights, len(rads))
     out = np.zeros((w.shape[0], pts.shape[0]))
     bad = np.zeros(out.shape, dtype=bool)
     touched = w != 0.0  # NaN weights count as weighted
-    radii = [float(reactive_near_field_radius_m(r.largest_dimension_m, r.wavelength_m)) for r in rads]
     for start in range(0, pts.shape[0], REFERENCE_CHUNK):
         sl = slice(start, start + REFERENCE_CHUNK)
         p = pts[sl]
         for i, rad in enumerate(rads):
             s = farfield_power_density(rad, p)
-            d = p - np.asarray(rad.position_m, dtype=float)
-            ok = (np.sqrt(np.einsum("ij,ij->i", d, d)) >= radii[i]) & np.isfinite(s)
+            ant = to_antenna_frame_points(p, rad.position_m, rad.azimuth_deg,
+                                          rad.mechanical_tilt_deg)
+            ok = ((rad.body.distance_m(ant) >= standoff_m(rad.wavelength_m) * (1.0 - 1e-9))
+                  & np.isfinite(s))
             out[:, sl] += w[:, i : i + 1] * np.where(ok, s, 0.0)[None, :]
             if not ok.all():
                 bad[:, sl] |= touched[:, i : i + 1] & ~ok[None, :]
@@ -675,7 +695,7 @@ def _run_kernel(plan: FarFieldPlan, pts, w, group: int, is_max, lines: bool = Fa
     if out.size == 0 or plan.n_source == 0:
         out[:] = 0.0
         return out
-    _ratio_kernel(pts, plan.position_m, plan.axes, plan.kfac_w, plan.r2_min_m2, plan.method,
+    _ratio_kernel(pts, plan.position_m, plan.axes, plan.kfac_w, plan.box_m, plan.method,
                   plan.gain_floor_dbi, plan.vf0_dbi, plan.vb0_dbi, plan.h_node, plan.h_slope,
                   plan.h_off, plan.h_n, plan.vf_node, plan.vf_slope, plan.vb_node, plan.vb_slope,
                   plan.v_off, plan.v_n, plan.exp_table, plan.exp_k0, w, int(group),
@@ -697,6 +717,15 @@ def _cached_plan(rads: tuple) -> FarFieldPlan:
         _PLANS.pop(next(iter(_PLANS)))
     _PLANS[key] = (rads, plan)
     return plan
+
+
+def kernel_source(src) -> bool:
+    """True for an engine source the kernel takes: the far-field model by request (under
+    ``auto`` the far-field formula is bounded close in, which the kernel does not do) with a
+    pattern-file pattern (:func:`fast_eligible`)."""
+    choice = getattr(src, "choice", None)
+    return (getattr(choice, "word", None) == "far-field" and not getattr(choice, "auto", False)
+            and fast_eligible(src.radiator))
 
 
 def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
@@ -723,8 +752,7 @@ def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
     """
     srcs = list(sources)
     pts, w = _points_and_weights(points_enu, weights, len(srcs))
-    fast = [i for i, s in enumerate(srcs)
-            if getattr(s.choice, "word", None) == "far-field" and fast_eligible(s.radiator)]
+    fast = [i for i, s in enumerate(srcs) if kernel_source(s)]
     rest = [i for i in range(len(srcs)) if i not in set(fast)]
     out = np.zeros((w.shape[0], pts.shape[0]))
     if fast:
@@ -775,8 +803,7 @@ def reduced_ratio_sums(sources: Sequence, points_enu, weights, group: int, is_ma
         raise InputError(f"averaging lines: {pts.shape[0]} points in groups of {group} with "
                          f"{flags.size} reducers; expected whole groups and one reducer per "
                          f"combination ({w.shape[0]})")
-    fast = all(getattr(s.choice, "word", None) == "far-field" and fast_eligible(s.radiator)
-               for s in srcs)
+    fast = all(kernel_source(s) for s in srcs)
     if fast and srcs and fast_available():
         en = pts[:, :2].reshape(-1, group, 2)
         lines = bool(np.all(en == en[:, :1, :]))  # vertical lines: one east/north per group

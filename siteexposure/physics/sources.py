@@ -1,34 +1,29 @@
-"""Per-antenna dispatcher: which field model runs, its density, and keep-out distances.
+"""Per-antenna dispatcher: which field model runs, where, and what happens where none holds.
 
-The engine calls :func:`choose_model` once per antenna and :func:`power_density` on
-chunks of points; the result records the :class:`ModelChoice` (model id and why).
+The engine calls :func:`choose_model` once per antenna and :func:`field_densities` (or
+:func:`power_density`) on chunks of points; the result records the :class:`ModelChoice`
+(model id and why). Models come from the registry of :mod:`siteexposure.physics.fieldmodels`.
 
-``auto`` picks, per antenna type, the model whose validation shows the best agreement:
+``auto`` picks, per antenna, the model whose method-of-moments validation shows the best
+agreement for that antenna type:
 
 * a dish (``diameter_m`` given) -> ``oet65-aperture``;
-* a line source (``aperture_height_m`` given) -> ``array-synthesis`` when
-  :mod:`siteexposure.physics.array` is installed, else ``oet65-cylindrical``;
-* no aperture size -> ``far-field-friis`` (the only model that needs nothing more).
+* any other body (``height_m``, ``width_m`` or ``depth_m`` given) -> ``array-synthesis``;
+* no body -> ``far-field-friis``, with a body inferred from the pattern's beamwidths
+  (:func:`siteexposure.physics.body.inferred_body`) to place its far-field range.
 
-Points closer than the reactive-near-field radius ``max(lambda/(2 pi), 0.62
-sqrt(D^3/lambda))`` are NaN with ``assessable = False``, as are any points a model
-declares out of its domain: never a silent pass.
+and, per point, uses that model only where its validation holds
+(``model.validated``); everywhere else, and wherever the model exceeds it, the
+conservative bound of :mod:`siteexposure.physics.bound`, so that an unvalidated point never
+gets less than the bound. A model the user requests by name runs everywhere outside the
+stand-off, as requested (the record says so).
 
-Keep-out distances
-    Measured from the radiation centre along six directions a worker would measure
-    with a tape: ``front`` and ``behind`` along the HORIZONTAL boresight azimuth (not
-    along the tilted beam), ``left`` and ``right`` horizontally at right angles to it
-    (left as seen from behind the antenna looking along boresight), ``above`` and
-    ``below`` along the true vertical. Along each ray the model itself is marched
-    outward on a log-spaced grid and the outermost crossing of the limit is refined on
-    successively finer grids; points the model cannot assess are counted as exceeding (a distance is
-    never shortened by not knowing). 0 where the limit is never reached outside the
-    reactive radius.
+Not assessable: only points within the stand-off ``lambda/(2 pi)`` of the antenna's body
+(:func:`siteexposure.physics.regions.standoff_m`), and below the ground plane of a monopole.
 """
 
 from __future__ import annotations
 
-import importlib.util
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
@@ -36,13 +31,12 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from siteexposure.errors import InputError
-from siteexposure.physics.farfield import (
-    far_field_distance_for_density_m,
-    farfield_power_density,
-    reactive_near_field_radius_m,
-)
+from siteexposure.physics.body import Body, inferred_body, to_antenna_frame_points
+from siteexposure.physics.fieldmodels import REGISTRY, Fields, model_class
+from siteexposure.physics.regions import standoff_m
 
 if TYPE_CHECKING:
+    from siteexposure.physics.cache import ModelCache
     from siteexposure.physics.radiator import Radiator
 
 MODEL_IDS = {
@@ -51,11 +45,8 @@ MODEL_IDS = {
     "array": "array-synthesis",
     "aperture": "oet65-aperture",
 }
-MODEL_WORDS = ("auto", *MODEL_IDS)
-KEEP_OUT_DIRECTIONS = ("front", "behind", "left", "right", "above", "below")
-_MARCH_SAMPLES = 480
-_REFINE_SAMPLES = 65
-_REFINE_ROUNDS = 4
+MODEL_WORDS = ("auto", *REGISTRY)
+BOUND_ID = "envelope-bound"
 
 
 @dataclass(frozen=True)
@@ -70,29 +61,34 @@ class ModelChoice:
         Model name that says where it comes from (``MODEL_IDS[word]``).
     reason : str
         One sentence for the report: requested, or why ``auto`` chose it.
+    auto : bool
+        Chosen by ``auto``: the model runs where validated, the bound elsewhere.
+    cache : ModelCache or None
+        The engine's cache of work shared between antennas.
     prepared : dict
-        Work a model does once per antenna and reuses on every chunk of points (the
-        array-synthesis column); filled by :func:`power_density`, keyed by model word and
-        holding ``(radiator, model)`` so that it is never reused for another antenna.
-        Not part of equality or the repr.
+        The built model and bound of this antenna (filled on first use, keyed by
+        ``"model"``, holding ``(radiator, model, bound, body)``). Not part of equality.
     """
 
     word: str
     model_id: str
     reason: str
+    auto: bool = False
+    cache: object = field(default=None, compare=False, repr=False)
     prepared: dict = field(default_factory=dict, compare=False, repr=False)
 
 
 def array_model_available() -> bool:
-    """True when the array-synthesis model (:mod:`siteexposure.physics.array`) is installed."""
-    return importlib.util.find_spec("siteexposure.physics.array") is not None
+    """True: the array-synthesis model is part of the package (kept for callers)."""
+    return True
 
 
 def _has(value) -> bool:
     return value is not None and float(value) > 0.0
 
 
-def choose_model(rad: Radiator, requested: str = "auto") -> ModelChoice:
+def choose_model(rad: Radiator, requested: str = "auto", cache: ModelCache | None = None
+                 ) -> ModelChoice:
     """Pick the field model for one antenna.
 
     Parameters
@@ -101,139 +97,178 @@ def choose_model(rad: Radiator, requested: str = "auto") -> ModelChoice:
         The antenna.
     requested : str
         ``auto`` or one of ``far-field``, ``cylindrical``, ``array``, ``aperture``.
-
-    Returns
-    -------
-    ModelChoice
+    cache : ModelCache, optional
+        Shared work between antennas (the engine's); a private one when omitted.
 
     Raises
     ------
     InputError
         Unknown word, or a model the antenna cannot use (``aperture`` without a
-        diameter, ``cylindrical`` or ``array`` without an aperture height, ``array``
-        when the array model is not installed).
+        diameter, ``cylindrical`` without an aperture height, ``array`` without a body).
     """
+    from siteexposure.physics.cache import ModelCache
+
+    cache = cache if cache is not None else ModelCache()
     word = str(requested).strip().lower()
     if word not in MODEL_WORDS:
         raise InputError(f"antenna model: {requested!r}; expected one of {', '.join(MODEL_WORDS)}")
     dish = _has(rad.diameter_m)
-    line = _has(rad.aperture_height_m)
+    box = any(_has(v) for v in (rad.aperture_height_m, rad.aperture_width_m,
+                                rad.aperture_depth_m)) and not dish
     if word == "auto":
         if dish:
-            return ModelChoice(
-                "aperture",
-                MODEL_IDS["aperture"],
-                f"auto: dish of diameter {rad.diameter_m:g} m -> OET-65 aperture model "
-                "(near-field, transition and far-field regions)",
-            )
-        if line and array_model_available():
-            return ModelChoice(
-                "array",
-                MODEL_IDS["array"],
-                f"auto: line source of aperture height {rad.aperture_height_m:g} m -> array "
-                "synthesis (best agreement with the method-of-moments validation)",
-            )
-        if line:
-            return ModelChoice(
-                "cylindrical",
-                MODEL_IDS["cylindrical"],
-                f"auto: line source of aperture height {rad.aperture_height_m:g} m -> OET-65 "
-                "cylindrical near-field model joined to the far field",
-            )
-        return ModelChoice(
-            "far-field",
-            MODEL_IDS["far-field"],
-            "auto: no aperture size given -> far-field formula with the pattern gain "
-            "(overstates the main beam in the near field)",
-        )
+            return ModelChoice("aperture", MODEL_IDS["aperture"],
+                               f"auto: dish of diameter {rad.diameter_m:g} m -> OET-65 aperture "
+                               "model in front of the aperture plane, the envelope bound "
+                               "behind it", True, cache)
+        if box:
+            b = rad.body
+            return ModelChoice("array", MODEL_IDS["array"],
+                               f"auto: body {b.height_m:g} x {b.width_m:g} x {b.depth_m:g} m "
+                               f"(height x width x depth), {rad.polarization} elements -> array "
+                               "synthesis (best agreement with the method-of-moments "
+                               "validation)", True, cache)
+        inferred = inferred_body(rad.pattern, rad.wavelength_m)
+        return ModelChoice("far-field", MODEL_IDS["far-field"],
+                           "auto: no body given -> far-field formula with the pattern gain "
+                           "beyond the far-field range of a body inferred from the beamwidths "
+                           f"({inferred.height_m:.2f} m high, {inferred.width_m:.2f} m wide), "
+                           "the envelope bound closer in; give aperture sizes for a near-field "
+                           "model", True, cache)
     if word == "aperture" and not dish:
         raise InputError(
             f"antenna model: 'aperture' needs aperture.diameter_m > 0, got {rad.diameter_m!r}"
         )
-    if word in ("cylindrical", "array") and not line:
+    if word == "cylindrical" and not _has(rad.aperture_height_m):
         raise InputError(
-            f"antenna model: {word!r} needs aperture.height_m > 0, got {rad.aperture_height_m!r}"
+            f"antenna model: 'cylindrical' needs aperture.height_m > 0, got "
+            f"{rad.aperture_height_m!r}"
         )
-    if word == "array" and not array_model_available():
+    if word == "array" and not box:
         raise InputError(
-            "antenna model: 'array' requested but the array-synthesis model is not "
-            "installed (siteexposure.physics.array); expected one of far-field, "
-            "cylindrical, aperture, auto"
+            "antenna model: 'array' needs the antenna's body (aperture.height_m, width_m or "
+            f"depth_m > 0), got height {rad.aperture_height_m!r}"
         )
-    return ModelChoice(word, MODEL_IDS[word], f"requested: model = {word!r}")
+    return ModelChoice(word, MODEL_IDS[word],
+                       f"requested: model = {word!r} (used everywhere outside the stand-off, "
+                       "also where it is not validated)", False, cache)
 
 
-def reactive_radius_m(rad: Radiator) -> float:
-    """Reactive-near-field radius ``max(lambda/(2 pi), 0.62 sqrt(D^3/lambda))``. [m]
+def standoff_distance_m(rad: Radiator) -> float:
+    """Stand-off from the body inside which nothing is assessed, ``lambda/(2 pi)``. [m]"""
+    return float(standoff_m(rad.wavelength_m))
 
-    ``D`` is the largest aperture dimension (0 when none is given, leaving lambda/2pi).
 
-    References
+def _prepared(rad: Radiator, choice: ModelChoice):
+    """(model, bound, body) of ``rad``, built once and kept on ``choice``."""
+    entry = choice.prepared.get("model")
+    if entry is None or entry[0] is not rad:
+        from siteexposure.physics.bound import EnvelopeBound
+
+        cls = model_class(choice.word)
+        body = rad.body  # the stand-off is kept from the body as given
+        if choice.word == "far-field" and body.is_point:
+            # no body given: the far-field range and the bound take one inferred from the
+            # beamwidths (a conservative guess); the stand-off stays about the centre
+            guess = inferred_body(rad.pattern, rad.wavelength_m)
+            model = cls.from_radiator(rad, choice.cache, body=guess)
+        else:
+            guess = body
+            model = cls.from_radiator(rad, choice.cache)
+        bound = EnvelopeBound.from_radiator(rad, choice.cache, body=guess) if choice.auto else None
+        entry = (rad, model, bound, body)
+        choice.prepared["model"] = entry
+    return entry[1], entry[2], entry[3]
+
+
+def model_notes(rad: Radiator, choice: ModelChoice) -> tuple[str, ...]:
+    """Sentences the built model adds to its record (e.g. radiated power above the input)."""
+    model, _, _ = _prepared(rad, choice)
+    return tuple(getattr(model, "notes", ()))
+
+
+def ground_z_m(rad: Radiator) -> float | None:
+    """Height of a monopole's ground plane in the antenna frame (None without one). [m]"""
+    if not rad.ground_plane:
+        return None
+    c, half = rad.body.box()
+    return float(c[2] - half[2])
+
+
+@dataclass(frozen=True)
+class FieldEstimate:
+    """What :func:`field_densities` returns for one antenna at points.
+
+    Attributes
     ----------
-    Balanis, Antenna Theory, 3rd ed., Sec. 2.2.4 (see
-    :func:`siteexposure.physics.farfield.reactive_near_field_radius_m`).
+    fields : Fields
+        E- and H-field densities, NaN where not assessable. [W/m^2]
+    assessable : ndarray of bool
+        False within the stand-off of the body (or below a monopole's ground plane).
+    bounded : ndarray of bool
+        True where the envelope bound gave the value (no validated model there, or the
+        model exceeded the bound).
     """
-    return float(reactive_near_field_radius_m(rad.largest_dimension_m, rad.wavelength_m))
+
+    fields: Fields
+    assessable: np.ndarray
+    bounded: np.ndarray
 
 
-def power_density(
-    rad: Radiator, choice: ModelChoice, points_enu: ArrayLike
-) -> tuple[np.ndarray, np.ndarray]:
-    """Power density of one antenna at site-frame points with the chosen model.
+def field_densities(rad: Radiator, choice: ModelChoice, points_enu: ArrayLike) -> FieldEstimate:
+    """E- and H-field densities of one antenna at site-frame points (see module docstring).
 
     Parameters
     ----------
-    rad : siteexposure.physics.radiator.Radiator
-        The antenna.
+    rad : Radiator
     choice : ModelChoice
         From :func:`choose_model`.
     points_enu : array_like, shape (n, 3)
         Field points (east, north, up) in the site frame. [m]
+    """
+    pts = np.asarray(points_enu, dtype=float).reshape(-1, 3)
+    model, bound, body = _prepared(rad, choice)
+    ant = to_antenna_frame_points(pts, rad.position_m, rad.azimuth_deg, rad.mechanical_tilt_deg)
+    ok = body_clearance_m(rad, body, ant) >= standoff_distance_m(rad) * (1.0 - 1e-9)
+    g = ground_z_m(rad)
+    if g is not None:
+        ok &= ant[:, 2] >= g
+    f = model.fields(pts)
+    s_e = np.asarray(f.s_e, dtype=float).reshape(-1)
+    s_h = np.asarray(f.s_h, dtype=float).reshape(-1)
+    bounded = np.zeros(len(pts), dtype=bool)
+    if bound is not None:
+        b = bound.density(ant)
+        use = ~(np.asarray(model.validated(ant), dtype=bool) & np.isfinite(s_e)
+                & np.isfinite(s_h)) | (np.fmax(s_e, s_h) > b)
+        use &= ok
+        s_e = np.where(use, b, s_e)
+        s_h = np.where(use, b, s_h)
+        bounded = use
+    ok &= np.isfinite(s_e) & np.isfinite(s_h)
+    return FieldEstimate(Fields(np.where(ok, s_e, np.nan), np.where(ok, s_h, np.nan)), ok,
+                         bounded & ok)
+
+
+def body_clearance_m(rad: Radiator, body: Body, points_ant) -> np.ndarray:
+    """Distance of antenna-frame points from the body (and from its image below a ground
+    plane, which is the same body mirrored: for points above the plane the body is nearer). [m]
+    """
+    return body.distance_m(points_ant)
+
+
+def power_density(rad: Radiator, choice: ModelChoice, points_enu: ArrayLike
+                  ) -> tuple[np.ndarray, np.ndarray]:
+    """``max(S_E, S_H)`` of one antenna at site-frame points, and the assessable mask.
 
     Returns
     -------
     s_w_m2 : ndarray, shape (n,)
         Power density; NaN where not assessable. [W/m^2]
     assessable : ndarray of bool, shape (n,)
-        False inside the reactive near field and wherever the model is out of its
-        domain.
     """
-    pts = np.asarray(points_enu, dtype=float).reshape(-1, 3)
-    word = choice.word
-    if word == "far-field":
-        s = farfield_power_density(rad, pts)
-        ok = np.ones(len(pts), dtype=bool)
-    elif word == "cylindrical":
-        from siteexposure.physics.cylindrical import cylindrical_power_density
-
-        s = cylindrical_power_density(rad, pts)
-        ok = np.ones(len(pts), dtype=bool)
-    elif word == "aperture":
-        from siteexposure.physics.aperture import aperture_power_density
-
-        s = aperture_power_density(rad, pts)
-        ok = np.ones(len(pts), dtype=bool)
-    elif word == "array":
-        s, ok = _prepared_array(rad, choice).power_density(pts)
-        s = np.asarray(s, dtype=float)
-        ok = np.asarray(ok, dtype=bool)
-    else:
-        raise InputError(f"model choice: {word!r}; expected one of {', '.join(MODEL_IDS)}")
-    d = pts - np.asarray(rad.position_m, dtype=float)
-    r = np.sqrt(np.einsum("ij,ij->i", d, d))
-    ok = ok & (r >= reactive_radius_m(rad)) & np.isfinite(s)
-    return np.where(ok, s, np.nan), ok
-
-
-def _prepared_array(rad, choice: ModelChoice):
-    """The array-synthesis column of ``rad``, built once and kept on ``choice``."""
-    entry = choice.prepared.get("array")
-    if entry is None or entry[0] is not rad:
-        from siteexposure.physics.array import ArraySynthesis
-
-        entry = (rad, ArraySynthesis.from_radiator(rad))
-        choice.prepared["array"] = entry
-    return entry[1]
+    est = field_densities(rad, choice, points_enu)
+    return est.fields.s, est.assessable
 
 
 def pattern_note(pattern) -> str | None:
@@ -244,90 +279,3 @@ def pattern_note(pattern) -> str | None:
     if getattr(pattern, "synthesis", None) == SPHERE_SYNTHESIS:
         return "3-D gain from the pattern file's full-sphere table"
     return None
-
-
-def power_floor_note(choice: ModelChoice) -> str | None:
-    """A sentence for the model record where an array model, once built, radiates more than
-    the input power to keep the pattern's stated peak gain (see
-    :class:`siteexposure.physics.array.ArraySynthesis`), else None."""
-    entry = choice.prepared.get("array")
-    ratio = float(entry[1].radiated_power_ratio) if entry is not None else 1.0
-    if ratio <= 1.001:
-        return None
-    return (f"its far field is held at the pattern's stated peak gain, so it radiates "
-            f"{100.0 * (ratio - 1.0):.1f} % more than the input power (the pattern's 3-D gain "
-            "integrates to more than 4 pi; conservative)")
-
-
-def keep_out_directions_enu(azimuth_deg: float) -> dict[str, np.ndarray]:
-    """Unit vectors (east, north, up) of the six keep-out directions of an antenna. [1]"""
-    a = np.deg2rad(float(azimuth_deg))
-    front = np.array([np.sin(a), np.cos(a), 0.0])
-    left = np.array([-np.cos(a), np.sin(a), 0.0])
-    up = np.array([0.0, 0.0, 1.0])
-    return {
-        "front": front,
-        "behind": -front,
-        "left": left,
-        "right": -left,
-        "above": up,
-        "below": -up,
-    }
-
-
-def _outermost_crossing(rad, choice, direction, limit, r0, r_max) -> float:
-    radii = np.geomspace(r0 * (1.0 + 1e-9), r_max, _MARCH_SAMPLES)  # just outside the mask
-    for round_ in range(_REFINE_ROUNDS + 1):
-        s, _ = power_density(rad, choice, rad.position_m + radii[:, None] * direction)
-        over = ~(s < limit)  # NaN (not assessable) counts as exceeding
-        if not over.any():
-            # first pass: never exceeded; refinement passes: the crossing is at radii[0]
-            return 0.0 if round_ == 0 else float(radii[0])
-        i = int(np.flatnonzero(over)[-1])
-        if i == len(radii) - 1:
-            return float(radii[-1])
-        lo, hi = radii[i], radii[i + 1]
-        if hi - lo <= 1e-9 * hi:
-            break
-        radii = np.linspace(lo, hi, _REFINE_SAMPLES)
-    return float(0.5 * (lo + hi))
-
-
-def keep_out_distances(rad: Radiator, choice: ModelChoice, limit_w_m2: float) -> dict[str, float]:
-    """Compliance distances of one antenna along six worker-measured directions.
-
-    Parameters
-    ----------
-    rad : siteexposure.physics.radiator.Radiator
-        The antenna.
-    choice : ModelChoice
-        The model to use (the same one as the area evaluation).
-    limit_w_m2 : float
-        Power-density limit to fall below. [W/m^2]
-
-    Returns
-    -------
-    dict
-        ``front``, ``behind``, ``left``, ``right``, ``above``, ``below``: distance from
-        the radiation centre beyond which the model's density stays below the limit;
-        0 where it never exceeds the limit outside the reactive radius. [m]
-
-    Notes
-    -----
-    The march runs from the reactive radius to a range where even the peak gain in
-    the far-field formula (measured from the far end of the aperture) gives less than
-    the limit; every model here is bounded by that value there.
-    """
-    limit = float(limit_w_m2)
-    if not np.isfinite(limit) or limit <= 0.0:
-        raise InputError(f"power-density limit: {limit_w_m2!r}; expected a positive number")
-    r0 = reactive_radius_m(rad)
-    g_peak = 10.0 ** (float(rad.pattern.peak_gain_dbi) / 10.0)
-    r_far = float(
-        far_field_distance_for_density_m(rad.power_w * g_peak, limit, rad.reflection_factor)
-    )
-    r_max = max(1.5 * r_far + 2.0 * rad.largest_dimension_m, 4.0 * r0)
-    dirs = keep_out_directions_enu(rad.azimuth_deg)
-    return {
-        name: _outermost_crossing(rad, choice, vec, limit, r0, r_max) for name, vec in dirs.items()
-    }

@@ -14,7 +14,7 @@ from typing import Annotated, Any, Literal
 from pydantic import BaseModel, ConfigDict, Field, WithJsonSchema
 from pydantic.json_schema import GenerateJsonSchema
 
-from siteexposure.containers import ACCESS_WORDS, MODEL_WORDS
+from siteexposure.containers import ACCESS_WORDS, MODEL_WORDS, POLARIZATION_WORDS
 from siteexposure.errors import LimitsError
 from siteexposure.physics.patterns import PARAMETRIC_MODELS
 
@@ -39,6 +39,7 @@ EastNorth = Annotated[list[Coordinate], Field(min_length=2, max_length=2)]
 Triple = Annotated[list[Coordinate], Field(min_length=3, max_length=3)]
 Access = Literal[ACCESS_WORDS]  # public | worker | none
 ModelWord = Literal[MODEL_WORDS]  # auto | far-field | cylindrical | array | aperture
+Polarization = Literal[POLARIZATION_WORDS]  # vertical | horizontal | slant | circular
 _PATTERN_JSON = {
     "description": (
         "Antenna gain pattern: a 'pattern CSV v1' file path (relative to the site file's "
@@ -153,16 +154,27 @@ class ApertureTable(_Table):
     model_config = ConfigDict(
         title="antenna.aperture",
         json_schema_extra={
-            "oneOf": [{"required": ["height_m"]}, {"required": ["diameter_m"]}],
+            "anyOf": [{"required": ["height_m"]}, {"required": ["width_m"]},
+                      {"required": ["depth_m"]}, {"required": ["diameter_m"]}],
         }
     )
     height_m: float | None = Field(None, ge=APERTURE_RANGE_M[0], le=APERTURE_RANGE_M[1],
-                                   description="Aperture height (length of a panel or "
-                                   "collinear). [m]")
+                                   description="Height of the antenna's body along its own "
+                                   "vertical axis (length of a panel or collinear). [m]")
     width_m: float | None = Field(None, ge=APERTURE_RANGE_M[0], le=APERTURE_RANGE_M[1],
-                                  description="Aperture width. [m]")
+                                  description="Width of the body (element span of a "
+                                  "horizontal Yagi or log-periodic array). [m]")
+    depth_m: float | None = Field(None, ge=APERTURE_RANGE_M[0], le=APERTURE_RANGE_M[1],
+                                  description="Depth of the body along boresight: reflector to "
+                                  "front of a panel, boom of a Yagi or log-periodic array, "
+                                  "feed in front of a dish's aperture plane. [m]")
     diameter_m: float | None = Field(None, ge=APERTURE_RANGE_M[0], le=APERTURE_RANGE_M[1],
                                      description="Dish diameter. [m]")
+    offset_m: Annotated[list[Annotated[float, Field(ge=-APERTURE_RANGE_M[1],
+                                                    le=APERTURE_RANGE_M[1])]],
+                        Field(min_length=3, max_length=3)] | None = Field(
+        None, description="Centre of the body relative to the radiation centre, in the "
+        "antenna's own frame [forward along boresight, left, up]; default centred. [m]")
 
 
 class AntennaTable(_Table):
@@ -218,8 +230,15 @@ class AntennaTable(_Table):
     )
     aperture: ApertureTable | None = Field(
         None,
-        description="Radiating aperture: { height_m, width_m } or { diameter_m } (dishes). [m]",
+        description="The antenna's body: { height_m, width_m, depth_m } (a box) or "
+        "{ diameter_m, depth_m } (dishes), optional offset_m. [m]",
     )
+    polarization: Polarization = Field(
+        "vertical", description="Orientation of the radiating elements: vertical | horizontal "
+        "| slant | circular.")
+    ground_plane: bool = Field(
+        False, description="The antenna is a monopole standing on a conducting ground plane "
+        "at the lower end of its body (needs aperture.height_m; no mechanical tilt).")
     model: ModelWord = Field(
         "auto", description="Field model: auto | far-field | cylindrical | array | aperture."
     )

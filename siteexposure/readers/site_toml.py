@@ -465,6 +465,7 @@ class _Builder:
         if aperture is not None:
             self.check_aperture(aperture, where)
         self.check_model(t, where)
+        self.check_ground_plane(t, where)
         pattern, tilt, source = self.pattern(t, where)
         self.check_inside_floor(t, where)
         return Antenna(
@@ -484,6 +485,11 @@ class _Builder:
             aperture_height_m=aperture.height_m if aperture else None,
             aperture_width_m=aperture.width_m if aperture else None,
             diameter_m=aperture.diameter_m if aperture else None,
+            aperture_depth_m=aperture.depth_m if aperture else None,
+            body_offset_m=tuple(float(v) for v in (aperture.offset_m or (0.0, 0.0, 0.0)))
+            if aperture else (0.0, 0.0, 0.0),
+            polarization=t.polarization,
+            ground_plane=bool(t.ground_plane),
             model=t.model,
             reflection_factor=float(
                 t.reflection_factor if t.reflection_factor is not None
@@ -494,17 +500,40 @@ class _Builder:
     def check_aperture(self, ap: ApertureTable, where: str) -> None:
         if ap.diameter_m is not None and (ap.height_m is not None or ap.width_m is not None):
             raise InputError(f"{self.file}: {where} > aperture: diameter_m given with "
-                             "height_m/width_m; expected { height_m, width_m } or { diameter_m }")
-        if ap.diameter_m is None and ap.height_m is None:
+                             "height_m/width_m; expected { height_m, width_m, depth_m } (a "
+                             "box) or { diameter_m, depth_m } (a dish)")
+        if all(v is None for v in (ap.diameter_m, ap.height_m, ap.width_m, ap.depth_m)):
             raise InputError(f"{self.file}: {where} > aperture: no size given; expected "
-                             "{ height_m, width_m } or { diameter_m }")
+                             "{ height_m, width_m, depth_m } (a box) or { diameter_m } (a dish)")
+
+    def check_ground_plane(self, t: AntennaTable, where: str) -> None:
+        if not t.ground_plane:
+            return
+        ap = t.aperture
+        if ap is None or ap.height_m is None or ap.diameter_m is not None:
+            raise _fail(self.file, f"{where} > ground_plane", True,
+                        "a monopole on a ground plane needs the height of its body; expected "
+                        "aperture = { height_m = ... } on this antenna")
+        if t.mechanical_tilt_deg != 0.0:
+            raise _fail(self.file, f"{where} > mechanical_tilt_deg", t.mechanical_tilt_deg,
+                        "a monopole on a ground plane stands upright; expected 0 with "
+                        "ground_plane = true")
+        if t.polarization != "vertical":
+            raise _fail(self.file, f"{where} > polarization", t.polarization,
+                        "a monopole on a ground plane radiates vertically polarised fields; "
+                        "expected \"vertical\" with ground_plane = true")
 
     def check_model(self, t: AntennaTable, where: str) -> None:
         ap = t.aperture
-        if t.model in ("cylindrical", "array") and (ap is None or ap.height_m is None):
+        if t.model == "cylindrical" and (ap is None or ap.height_m is None):
             raise _fail(self.file, f"{where} > model", t.model,
                         "this model needs the aperture length; expected aperture = "
                         "{ height_m = ..., width_m = ... } on this antenna")
+        if t.model == "array" and (ap is None or ap.diameter_m is not None or all(
+                v is None for v in (ap.height_m, ap.width_m, ap.depth_m))):
+            raise _fail(self.file, f"{where} > model", t.model,
+                        "this model needs the antenna's body; expected aperture = "
+                        "{ height_m = ..., width_m = ..., depth_m = ... } on this antenna")
         if t.model == "aperture" and (
             ap is None or (ap.diameter_m is None and (ap.height_m is None or ap.width_m is None))
         ):

@@ -114,6 +114,19 @@ def _area_dict(ar: AreaResult) -> dict:
     }
 
 
+def _shape_dicts(a) -> dict:
+    """Per population, the box and cylinder holding every set's zone (largest faces)."""
+    merged: dict[str, dict[str, dict[str, float]]] = {}
+    for (_, pop), shapes in a.keep_out_shape.items():
+        slot = merged.setdefault(pop, {})
+        for kind, faces in shapes.items():
+            dst = slot.setdefault(kind, {})
+            for k, v in faces.items():
+                dst[k] = max(dst.get(k, -math.inf), v)
+    return {p: {kind: {k: _num(v, 4) for k, v in f.items()} for kind, f in d.items()}
+            for p, d in merged.items()}
+
+
 def _keep_out_dicts(a) -> tuple[dict, list]:
     merged: dict[str, dict[str, float]] = {}
     rows = []
@@ -153,8 +166,9 @@ def site_dict(res: SiteResult) -> dict:
                 "eirp_w": _num(ant.eirp_w),
                 "erp_w": _num(ant.erp_w),
                 "model": {"word": a.model.word, "id": a.model.model_id, "reason": a.model.reason},
-                "reactive_radius_m": _num(a.reactive_radius_m, 4),
+                "standoff_m": _num(a.standoff_m, 4),
                 "keep_out_m": keep,
+                "keep_out_shape_m": _shape_dicts(a),
                 "keep_out_by_limits": rows,
             }
         )

@@ -156,7 +156,7 @@ def traceability(ctx: ReportContext) -> list:
     rows.append(["limit sets", ", ".join(data["site"]["limits"])])
     rows.append(["antenna models", "; ".join(f"{a['id']}: {a['model']['id']}"
                                              for a in data["antennas"])])
-    rows.append(["reactive radius (m)", "; ".join(f"{a['id']}: {jnum(a['reactive_radius_m'])}"
+    rows.append(["stand-off from the body (m)", "; ".join(f"{a['id']}: {jnum(a['standoff_m'])}"
                                                   for a in data["antennas"])])
     out.append(table(["setting", "value"], rows, [2.0, 7.0], ctx.width, mono_cols=(1,)))
     out.append(para("The numbers in this report are those of the JSON output of the same run "

@@ -13,7 +13,7 @@ import pytest
 
 from siteexposure.constants import C0
 from siteexposure.errors import InputError
-from siteexposure.physics.array import ArraySynthesis, array_power_density, reactive_radius_m
+from siteexposure.physics.array import ArraySynthesis, array_power_density
 from siteexposure.physics.patterns import parametric_pattern
 from siteexposure.physics.radiator import Radiator
 from siteexposure.physics.synthesis import normalised
@@ -171,16 +171,22 @@ def test_rotation_of_the_antenna_rotates_the_field():
     np.testing.assert_allclose(s1, s0, rtol=1e-6)
 
 
-def test_reactive_near_field_is_not_assessable():
-    """Inside max(lambda/2pi, 0.62 sqrt(D^3/lambda)) (Balanis sec. 2.2.4): NaN and False."""
+def test_only_the_standoff_of_the_body_is_not_assessable():
+    """The Fresnel radius 0.62 sqrt(D^3/lambda) (Balanis sec. 2.2.4) is no longer a refusal
+    rule: beside the panel's face, between lambda/2pi and that radius, the model answers;
+    within lambda/2pi of the body (the dispatcher's stand-off) it does not."""
+    from siteexposure.physics.regions import fresnel_boundary_m, standoff_m
+    from siteexposure.physics.sources import choose_model, power_density
+
     rad = _panel(height_m=1.3)
-    r_react = reactive_radius_m(LAM, 1.3)
-    assert r_react == pytest.approx(0.62 * np.sqrt(1.3**3 / LAM))
-    pts = rad.position_m + np.array([[0.0, 0.98 * r_react, 0.0], [0.0, 1.02 * r_react, 0.0],
-                                     [0.0, 0.0, 0.5 * r_react]])
-    s, ok = array_power_density(rad, pts)
-    assert ok.tolist() == [False, True, False]
-    assert np.isnan(s[0]) and np.isnan(s[2]) and np.isfinite(s[1]) and s[1] > 0
+    r_fresnel = fresnel_boundary_m(1.3, LAM)
+    assert r_fresnel == pytest.approx(0.62 * np.sqrt(1.3**3 / LAM)) and r_fresnel > 0.5
+    so = standoff_m(LAM)
+    pts = rad.position_m + np.array([[0.0, 0.98 * so, 0.0], [0.0, 0.5 * r_fresnel, 0.0],
+                                     [0.0, 0.0, 0.65 + 0.5 * so], [0.0, 0.0, 0.65 + 1.5 * so]])
+    s, ok = power_density(rad, choose_model(rad, "array"), pts)
+    assert ok.tolist() == [False, True, False, True]
+    assert np.isnan(s[0]) and np.isnan(s[2]) and np.all(np.isfinite(s[[1, 3]]))
 
 
 def test_points_hugging_the_column_are_not_assessable():
@@ -260,12 +266,17 @@ def test_the_same_pattern_read_twice_is_fitted_once():
     one = read_pattern_csv(data / "panel_tilt6.csv")
     two = read_pattern_csv(data / "panel_tilt6.csv")
     other = read_pattern_csv(data / "panel.csv")
+    from siteexposure.physics.cache import ModelCache
+
     assert one is not two
-    first = arr._column_shape(one, 1900e6, 1.04, 6.0)
-    assert arr._column_shape(two, 1900e6, 1.04, 6.0) is first
-    assert arr._column_shape(other, 1900e6, 1.04, 0.0) is not first
-    assert arr._column_shape(two, 1800e6, 1.04, 6.0) is not first
-    assert arr._column_shape(two, 1900e6, 0.9, 6.0) is not first
+    cache = ModelCache()
+    first = arr._column_shape(one, 1900e6, 1.04, 6.0, cache)
+    assert arr._column_shape(two, 1900e6, 1.04, 6.0, cache) is first
+    assert arr._column_shape(other, 1900e6, 1.04, 0.0, cache) is not first
+    assert arr._column_shape(two, 1800e6, 1.04, 6.0, cache) is not first
+    assert arr._column_shape(two, 1900e6, 0.9, 6.0, cache) is not first
+    # the memo is the engine's object, not a module global: a new cache fits again
+    assert arr._column_shape(one, 1900e6, 1.04, 6.0, ModelCache()) is not first
 
 
 @pytest.mark.parametrize("hpbw_v, f_mhz, h, tilt", [

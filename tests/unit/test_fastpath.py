@@ -3,7 +3,7 @@
 The kernel must give the quantity of the package's own far-field model
 (:func:`siteexposure.physics.sources.power_density` with the far-field model, summed as
 :func:`siteexposure.engine.evaluate.weighted_sums` sums it) to 1e-9 relative, with the
-same NaN flags inside the reactive near field, with or without numba. The arctangent of
+same NaN flags within the stand-off of the body, with or without numba. The arctangent of
 the kernel is checked against numpy's ``arctan2`` (the C library's, ISO C Annex F).
 Every site and pattern below is random or invented for the test.
 """
@@ -23,9 +23,10 @@ from siteexposure.engine.evaluate import Source, densities
 from siteexposure.errors import InputError, PatternError
 from siteexposure.physics import fastpath
 from siteexposure.physics.exposure import weighted_sums
-from siteexposure.physics.farfield import reactive_near_field_radius_m
+from siteexposure.physics.body import to_antenna_frame_points
 from siteexposure.physics.patterns import parametric_pattern
 from siteexposure.physics.radiator import Radiator
+from siteexposure.physics.regions import standoff_m
 from siteexposure.physics.sources import choose_model
 from siteexposure.physics.synthesis import TablePattern
 from siteexposure.readers.pattern_csv import read_pattern_csv, write_pattern_csv
@@ -102,13 +103,14 @@ def _sites(draw):
                              reflection_factor=float(rng.choice([1.0, 2.56, 4.0]))))
     n_pt = draw(st.integers(1, 300))
     pts = rng.uniform(-30, 30, (n_pt, 3))
-    # points near and inside the reactive radius, and straight above/below and level with
-    # an antenna (signed zeros in the antenna frame)
+    # points near and inside the stand-off of a body, and straight above/below and level
+    # with an antenna (signed zeros in the antenna frame)
     k = rng.integers(0, n_src)
-    rr = float(reactive_near_field_radius_m(rads[k].largest_dimension_m, rads[k].wavelength_m))
+    rr = standoff_m(rads[k].wavelength_m)
     u = rng.normal(size=(6, 3))
     u /= np.linalg.norm(u, axis=1, keepdims=True)
-    near = rads[k].position_m + u * rr * np.array([0.3, 0.8, 0.999, 1.001, 1.5, 3.0])[:, None]
+    tip = rads[k].position_m + np.array([0.0, 0.0, 0.5 * (rads[k].aperture_height_m or 0.0)])
+    near = tip + np.abs(u) * rr * np.array([0.3, 0.8, 0.99, 1.01, 1.5, 3.0])[:, None]
     special = rads[k].position_m + np.array([[0, 0, 3.0], [0, 0, -2.0], [4.0, 0, 0],
                                              [0, -5.0, 0], [-3.0, 0, 0], [0, 0, 0]])
     pts = np.concatenate([pts, near, special])
@@ -124,10 +126,11 @@ def test_fast_path_agrees_with_numpy_reference_on_random_sites(site):
     got = fastpath.far_field_ratio_sums(rads, pts, w, accelerate=ACCELERATED or None)
     want = fastpath.far_field_ratio_sums_reference(rads, pts, w)
     _assert_same(got, want)
-    # the reactive-near-field flag travels: inside the radius of source k the sums that
+    # the stand-off flag travels: within lambda/2pi of the body of source k the sums that
     # weigh source k are NaN, in both
-    d = np.linalg.norm(pts - rads[k].position_m, axis=1)
-    inside = d < rr * (1 - 1e-9)
+    ant = to_antenna_frame_points(pts, rads[k].position_m, rads[k].azimuth_deg,
+                                  rads[k].mechanical_tilt_deg)
+    inside = rads[k].body.distance_m(ant) < rr * (1 - 1e-6)
     weighted = w[:, k] != 0
     assert np.all(np.isnan(got[np.ix_(weighted, inside)]))
     assert np.all(np.isnan(want[np.ix_(weighted, inside)]))
@@ -137,12 +140,13 @@ def test_fast_path_agrees_with_numpy_reference_on_random_sites(site):
 @given(_sites())
 def test_fast_path_equals_the_engine_far_field_path(site):
     rads, pts, w, _, _ = site
-    # leave out points within 1e-12 of a reactive radius: there the engine's sqrt(einsum)
-    # and any other summation order may fall on either side
+    # leave out points within 1e-9 of a stand-off: there the engine's frame change and the
+    # kernel's fused sums may fall on either side
     keep = np.ones(len(pts), dtype=bool)
     for r in rads:
-        rr = reactive_near_field_radius_m(r.largest_dimension_m, r.wavelength_m)
-        keep &= np.abs(np.linalg.norm(pts - r.position_m, axis=1) / rr - 1.0) > 1e-12
+        rr = standoff_m(r.wavelength_m)
+        ant = to_antenna_frame_points(pts, r.position_m, r.azimuth_deg, r.mechanical_tilt_deg)
+        keep &= np.abs(r.body.distance_m(ant) / rr - 1.0) > 1e-6
     pts = pts[keep]
     want, srcs = _engine_reference(rads, pts, w)
     _assert_same(fastpath.far_field_ratio_sums(rads, pts, w), want)
@@ -283,7 +287,7 @@ def test_irregular_samples_take_the_per_source_path_with_the_same_result():
 
 @pytest.mark.parametrize("no_numba", [False, True])
 def test_reduced_sums_equal_the_engine_column_ratios(monkeypatch, no_numba):
-    """Averaging lines (mean) and peaks (max), with lines through a reactive near field."""
+    """Averaging lines (mean) and peaks (max), with lines through a stand-off."""
     from siteexposure.engine.evaluate import column_ratios
 
     if no_numba:

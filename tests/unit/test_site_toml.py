@@ -400,7 +400,7 @@ def test_antenna_inside_a_floor(tmp_path):
 def test_aperture_and_model_must_agree(tmp_path):
     bad(tmp_path, edit("aperture = { height_m = 1.2, width_m = 0.25 }",
                        "aperture = { height_m = 1.2, diameter_m = 0.6 }"),
-        'antenna "A1" > aperture', "{ diameter_m }")
+        'antenna "A1" > aperture', "{ diameter_m, depth_m } (a dish)")
     bad(tmp_path, edit("aperture = { height_m = 1.2, width_m = 0.25 }", "aperture = { }"),
         'antenna "A1" > aperture', "no size")
     bad(tmp_path, edit("aperture = { height_m = 1.2, width_m = 0.25 }",
@@ -408,6 +408,42 @@ def test_aperture_and_model_must_agree(tmp_path):
     bad(tmp_path, edit('pattern = { model = "isotropic" }',
                        'pattern = { model = "isotropic" }\nmodel = "cylindrical"'),
         'antenna "A2" > model = "cylindrical"', "aperture")
+
+
+def test_body_keys_are_read(tmp_path):
+    """polarization, aperture.depth_m and aperture.offset_m reach the antenna and its body."""
+    site = read_site(write_site(tmp_path, edit(
+        "aperture = { height_m = 1.2, width_m = 0.25 }",
+        'aperture = { height_m = 1.2, width_m = 0.25, depth_m = 0.15, offset_m = [-0.05, 0, 0.1] }'
+        '\npolarization = "slant"')))
+    ant = site.antenna("A1")
+    assert ant.polarization == "slant" and ant.aperture_depth_m == 0.15
+    body = ant.radiator().body
+    centre, half = body.box()
+    assert centre.tolist() == [-0.05, 0.0, 0.1]
+    assert half.tolist() == pytest.approx([0.075, 0.125, 0.6])
+    assert site.antenna("A2").polarization == "vertical"  # the default
+
+
+def test_bad_body_keys(tmp_path):
+    """Unknown polarisation words, negative or NaN depths, wrong offsets, a ground plane
+    without a height: one line naming the key, the value and what was expected."""
+    ap = "aperture = { height_m = 1.2, width_m = 0.25 }"
+    bad(tmp_path, edit(ap, ap + '\npolarization = "diagonal"'),
+        'antenna "A1" > polarization = "diagonal"', "vertical", "circular")
+    bad(tmp_path, edit(ap, "aperture = { height_m = 1.2, depth_m = -0.2 }"),
+        "aperture > depth_m = -0.2")
+    bad(tmp_path, edit(ap, "aperture = { height_m = 1.2, depth_m = nan }"),
+        "aperture > depth_m", "nan")
+    bad(tmp_path, edit(ap, "aperture = { height_m = 1.2, offset_m = [0, 1] }"),
+        "aperture > offset_m")
+    bad(tmp_path, edit(ap, 'aperture = { height_m = 1.2, offset_m = [0, 0, "up"] }'),
+        "aperture > offset_m")
+    bad(tmp_path, edit(ap, "aperture = { diameter_m = 1.2 }\nground_plane = true"),
+        'antenna "A1" > ground_plane = true', "height_m")
+    bad(tmp_path, edit(ap, ap + '\nground_plane = true\npolarization = "horizontal"'),
+        'antenna "A1" > polarization = "horizontal"', "vertical")
+    bad(tmp_path, edit(ap, ap + "\nground_plane = 1"), "ground_plane")
 
 
 # -- unreadable files ---------------------------------------------------------------------

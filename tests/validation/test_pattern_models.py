@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -325,7 +326,14 @@ def test_pattern_files_are_current():
     mod = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(mod)
     for name, text in mod.files().items():
-        assert (PATTERNS / name).read_text(encoding="utf-8") == text, name
+        stored = (PATTERNS / name).read_text(encoding="utf-8")
+        # the same text, with numbers equal to 1e-9 relative: the last printed digit of a
+        # computed gain may differ between numpy/libm builds (seen: ...144 vs ...142)
+        num = r"[-+]?\d+\.?\d*(?:[eE][-+]?\d+)?"
+        assert re.sub(num, "#", stored) == re.sub(num, "#", text), name
+        a = np.array([float(x) for x in re.findall(num, stored)])
+        b = np.array([float(x) for x in re.findall(num, text)])
+        np.testing.assert_allclose(a, b, rtol=1e-9, atol=1e-12, err_msg=name)
 
 
 def _nec_far_field(name):
