@@ -9,7 +9,11 @@ is copied from, fitted to or meant to resemble any product's datasheet:
   a mast (omnidirectional antennas);
 * the absolute gain comes from the directivity of the synthesised 3-D pattern (sphere
   integral of :func:`siteexposure.physics.synthesis.directivity_ratio`) less an invented
-  ohmic and mismatch loss, so every file radiates a plausible, consistent power.
+  ohmic and mismatch loss, so every file radiates a plausible, consistent power;
+* one file (``panel_3d_2600.csv``) also carries a full-sphere 3-D table: there the 3-D
+  pattern is (array factor of the column, a function of elevation) x (an invented element
+  pattern of the angle from boresight), sampled on a grid and on the three cut planes, so
+  the table and the cuts agree where they meet.
 
 The array factor of N equally spaced elements with amplitudes a_n and a progressive
 phase that steers the beam to elevation -tilt is (C. A. Balanis, Antenna Theory, 4th ed.,
@@ -17,13 +21,15 @@ Wiley, 2016, sec. 6.3)::
 
     AF(theta) = | sum_n a_n exp(j 2 pi (d / lambda) n (sin theta + sin tilt)) |^2
 
-Run from the repository root (the files are rewritten only if their content changes)::
+Run from the repository root (the files are rewritten only if their content changes; name
+files to write only those)::
 
-    .venv/bin/python sample_sites/patterns/make_patterns.py
+    .venv/bin/python sample_sites/patterns/make_patterns.py [panel_3d_2600.csv ...]
 """
 
 from __future__ import annotations
 
+import sys
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -171,15 +177,73 @@ def build(spec: Spec) -> str:
     return text
 
 
-def main() -> None:
-    for spec in _specs():
-        text = build(spec)
-        target = HERE / spec.file
+#: the 3-D table's grid: 5 deg in azimuth; 1 deg in elevation within +-30 deg, 5 deg beyond
+SPHERE_AZ = np.arange(0.0, 360.0, 5.0)
+SPHERE_EL = np.unique(np.concatenate([np.arange(-90.0, -30.0, 5.0), np.arange(-30.0, 30.0, 1.0),
+                                      np.arange(30.0, 90.5, 5.0)]))
+
+
+def _panel_3d(column: Column, element_power: float, front_to_back_db: float):
+    """Invented 3-D panel, relative power (peak 1) at (azimuth, elevation) [deg], broadcasting:
+    column array factor x a single-lobe element of the angle ``psi`` from boresight
+    (``cos psi = cos el cos az``) over a back floor that rises behind the panel."""
+    back = 10.0 ** (-front_to_back_db / 10.0)
+
+    def power(az_deg, el_deg):
+        cos_psi = np.cos(np.radians(el_deg)) * np.cos(np.radians(az_deg))
+        lobe = (0.5 * (1.0 + cos_psi)) ** element_power
+        element = lobe + back * (1.0 - (0.5 * (1.0 + cos_psi)) ** 2)
+        return (column.power(np.asarray(el_deg, dtype=float)) + NULL_FILL) * element
+
+    peak = float(power(0.0, np.linspace(-30.0, 30.0, 6001)).max())
+    return lambda az_deg, el_deg: power(az_deg, el_deg) / peak
+
+
+SPHERE_SPEC = ("panel_3d_2600.csv",
+               "Invented 2600 MHz sector panel with a full-sphere table (demo data)", 2600.0,
+               Column(n=10, spacing_wl=0.8, tilt_deg=6.0, edge_taper=0.45), 9.4, 28.0, 1.3)
+
+
+def build_sphere() -> str:
+    """The text of the pattern file with a full-sphere 3-D table."""
+    file, name, freq, column, element_power, fb_db, loss_db = SPHERE_SPEC
+    rel = _panel_3d(column, element_power, fb_db)
+
+    def db(az, el):
+        return 10.0 * np.log10(rel(az, el))
+
+    table = db(SPHERE_AZ[:, None], SPHERE_EL[None, :])
+    h, f, b = db(H_ANGLES, 0.0), db(0.0, V_ANGLES), db(180.0, V_ANGLES)
+    shape = TablePattern(H_ANGLES, h, V_ANGLES, f, V_ANGLES, b, peak_gain_dbi=0.0,
+                         sphere=(SPHERE_AZ, SPHERE_EL, table))
+    peak = round(float(-10.0 * np.log10(directivity_ratio(shape)) - loss_db), 2)
+    text = format_pattern_csv(
+        peak_gain_dbi=peak,
+        h_angle_deg=H_ANGLES, h_gain_dbi=np.round(peak + h, 2),
+        v_front_elev_deg=V_ANGLES, v_front_gain_dbi=np.round(peak + f, 2),
+        v_back_elev_deg=V_ANGLES, v_back_gain_dbi=np.round(peak + b, 2),
+        metadata={"frequency_mhz": freq, "electrical_tilt_deg": column.tilt_deg, "name": name},
+        sphere=(SPHERE_AZ, SPHERE_EL, np.round(peak + table, 2)),
+    )
+    pattern_from_text(text, file)  # the reader's own checks, before writing
+    return text
+
+
+def main(names: list[str]) -> None:
+    builders = {spec.file: (lambda spec=spec: build(spec)) for spec in _specs()}
+    builders[SPHERE_SPEC[0]] = build_sphere
+    unknown = sorted(set(names) - set(builders))
+    if unknown:
+        raise SystemExit(f"unknown pattern file(s) {', '.join(unknown)}; expected some of "
+                         f"{', '.join(builders)}")
+    for file in names or list(builders):
+        text = builders[file]()
+        target = HERE / file
         if not target.exists() or target.read_text(encoding="utf-8") != text:
             write_text(target, text)
-        peak = pattern_from_text(text, spec.file).peak_gain_dbi
-        print(f"{spec.file}: peak {peak:.2f} dBi")
+        peak = pattern_from_text(text, file).peak_gain_dbi
+        print(f"{file}: peak {peak:.2f} dBi")
 
 
 if __name__ == "__main__":
-    main()
+    main(sys.argv[1:])

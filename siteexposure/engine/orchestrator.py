@@ -54,7 +54,7 @@ def build_sources(site: Site, cache=None) -> tuple[list[Source], list[AntennaRes
     share (taper fits, pattern tables); one per run when not given.
     """
     from siteexposure.physics.cache import ModelCache
-    from siteexposure.physics.sources import choose_model, standoff_distance_m
+    from siteexposure.physics.sources import choose_model, pattern_note, standoff_distance_m
 
     cache = cache if cache is not None else ModelCache()
     sources, records = [], []
@@ -62,10 +62,12 @@ def build_sources(site: Site, cache=None) -> tuple[list[Source], list[AntennaRes
         rad = ant.radiator()
         choice = choose_model(rad, ant.model, cache)
         sources.append(Source(ant.id, rad, choice))
+        note = pattern_note(rad.pattern)
+        reason = choice.reason if note is None else f"{choice.reason}; {note}"
         records.append(
             AntennaResult(
                 antenna=ant,
-                model=ModelRecord(choice.word, choice.model_id, choice.reason),
+                model=ModelRecord(choice.word, choice.model_id, reason),
                 standoff_m=float(standoff_distance_m(rad)),
             )
         )

@@ -12,7 +12,8 @@ point ``p``, with the far-field densities ``S_i = P G(phi, theta) F / (4 pi r^2)
   :func:`far_field_ratio_sums_reference`, the plain numpy reference (the package's own model,
   source by source, added into ``R``);
 * :func:`ratio_sums` / :func:`reduced_ratio_sums` -- the engine's entry points: far-field
-  sources with pattern files take the kernel, others :func:`siteexposure.physics.sources.power_density`;
+  sources with pattern files take the kernel (unless the file has a full-sphere table, whose
+  3-D gain the kernel does not read), others :func:`siteexposure.physics.sources.power_density`;
   the second also reduces each averaging line (mean or peak) as
   :func:`siteexposure.engine.evaluate.column_ratios` does, inside the kernel when it can.
 
@@ -434,7 +435,10 @@ def _pattern_tables(pattern) -> _CutTables | None:
     from siteexposure.physics.synthesis import TablePattern
 
     tables = None
-    if isinstance(pattern, TablePattern) and pattern.method in _METHOD_CODES:
+    # a pattern with a full-sphere table takes its 3-D gain from the table, which this
+    # kernel (built on the cuts) does not read: it goes through the numpy path
+    if (isinstance(pattern, TablePattern) and pattern.sphere is None
+            and pattern.method in _METHOD_CODES):
         nh = _uniform_cells(pattern.h_angle_deg, 0.0, 360.0)
         nv = _uniform_cells(np.union1d(pattern.v_front_elev_deg, pattern.v_back_elev_deg),
                             -90.0, 180.0)
@@ -460,8 +464,9 @@ def _pattern_tables(pattern) -> _CutTables | None:
 
 def fast_eligible(rad) -> bool:
     """True when the kernel can evaluate ``rad``: its pattern is a pattern file
-    (:class:`~siteexposure.physics.synthesis.TablePattern`) with a known synthesis method
-    whose cuts are sampled on regular grids of at most :data:`MAX_CELLS` cells."""
+    (:class:`~siteexposure.physics.synthesis.TablePattern`) without a full-sphere table, with
+    a known synthesis method, whose cuts are sampled on regular grids of at most
+    :data:`MAX_CELLS` cells."""
     return _pattern_tables(getattr(rad, "pattern", None)) is not None
 
 

@@ -269,3 +269,13 @@ def power_density(rad: Radiator, choice: ModelChoice, points_enu: ArrayLike
     """
     est = field_densities(rad, choice, points_enu)
     return est.fields.s, est.assessable
+
+
+def pattern_note(pattern) -> str | None:
+    """A sentence for the model record where the pattern's 3-D gain is not synthesised from
+    its cuts (a pattern file with a full-sphere table), else None."""
+    from siteexposure.physics.sphere_table import SPHERE_SYNTHESIS
+
+    if getattr(pattern, "synthesis", None) == SPHERE_SYNTHESIS:
+        return "3-D gain from the pattern file's full-sphere table"
+    return None

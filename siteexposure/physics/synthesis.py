@@ -9,7 +9,8 @@ A pattern file (SPEC §3.2, "pattern CSV v1") gives three cuts in absolute dBi:
   (elevation measured from the back horizon, +90 is the same zenith as in the front cut).
 
 :class:`TablePattern` interpolates each cut linearly in dB and combines them into a gain in any
-direction by one of :data:`SYNTHESIS_METHODS`. :func:`directivity_ratio` integrates any
+direction by one of :data:`SYNTHESIS_METHODS`, or, where the file carries a full-sphere table
+(:class:`~siteexposure.physics.sphere_table.SphereTable`), reads the 3-D gain from that table. :func:`directivity_ratio` integrates any
 :class:`~siteexposure.physics.pattern_base.GainPattern` over the sphere and :func:`normalised`
 rescales a pattern so that it radiates exactly the power put in.
 
@@ -25,6 +26,7 @@ import numpy as np
 
 from siteexposure.errors import PatternError
 from siteexposure.physics.pattern_base import GainPattern, dbi_to_linear, linear_to_dbi
+from siteexposure.physics.sphere_table import SPHERE_SYNTHESIS, SphereTable, cut_plane_mismatch
 
 #: Names of the published methods that :class:`TablePattern` offers (the ``method`` argument).
 SYNTHESIS_METHODS = ("additive", "weighted-bilinear")
@@ -212,11 +214,16 @@ class _Lerp:
 
 
 class TablePattern:
-    """Gain pattern from a horizontal and front/back vertical cuts (absolute dBi).
+    """Gain pattern from a horizontal and front/back vertical cuts (absolute dBi), optionally
+    with a full-sphere 3-D table.
 
     Implements :class:`~siteexposure.physics.pattern_base.GainPattern`. Each cut is interpolated
     linearly in dB (the horizontal cut wraps at 360 deg); the 3-D gain off the cut planes comes
-    from one of the published synthesis methods of :data:`SYNTHESIS_METHODS`.
+    from one of the published synthesis methods of :data:`SYNTHESIS_METHODS`, or, when a
+    ``sphere`` table is given, from that table directly
+    (:class:`~siteexposure.physics.sphere_table.SphereTable`: bilinear in dB). The cuts stay
+    what :meth:`horizontal_cut` and :meth:`vertical_cut` return either way (the near-field
+    models fit to them).
 
     Parameters
     ----------
@@ -240,12 +247,23 @@ class TablePattern:
         see Notes.
     frequency_mhz : float, optional
         Frequency at which the cuts were taken, if known. [MHz]
+    sphere : SphereTable or tuple, optional
+        Full-sphere table (or ``(az_deg (n_az,), el_deg (n_el,), gain_dbi (n_az, n_el))``).
+        Its largest gain must agree with ``peak_gain_dbi`` within :data:`PEAK_TOLERANCE_DB`,
+        and it must agree with the cuts within :data:`CROSSING_TOLERANCE_DB` wherever both
+        have a sample at the same angle on a cut plane (az 0 and 180, el 0).
 
     Attributes
     ----------
     h_angle_deg, h_gain_dbi, v_front_elev_deg, v_front_gain_dbi, v_back_elev_deg, v_back_gain_dbi
         The validated cuts (sorted; the horizontal one in [0, 360)), for models that derive an
         element pattern from them (array synthesis). Read-only arrays.
+    sphere : SphereTable or None
+        The full-sphere table, if any.
+    synthesis : str
+        Where the 3-D gain comes from, for the model record: ``"3-d table"``
+        (:data:`~siteexposure.physics.sphere_table.SPHERE_SYNTHESIS`) or the cut-synthesis
+        ``method``.
 
     Notes
     -----
@@ -317,6 +335,7 @@ class TablePattern:
         source: str = "",
         method: str = DEFAULT_SYNTHESIS_METHOD,
         frequency_mhz: float | None = None,
+        sphere: SphereTable | tuple | None = None,
     ) -> None:
         where = f"pattern '{name or source or 'table'}'"
         if method not in SYNTHESIS_METHODS:
@@ -354,11 +373,31 @@ class TablePattern:
         self._same_v = bool(np.array_equal(self.v_front_elev_deg, self.v_back_elev_deg))
         self._vf0 = float(self._vf(0.0))
         self._vb0 = float(self._vb(0.0))
+        if sphere is not None and not isinstance(sphere, SphereTable):
+            sphere = SphereTable(*sphere, where=where)
+        if sphere is not None:
+            if abs(peak - sphere.max_gain_dbi) > PEAK_TOLERANCE_DB:
+                raise PatternError(
+                    f"{where}: peak_gain_dbi = {peak_gain_dbi!r} but the largest gain in the 3-D "
+                    f"table is {sphere.max_gain_dbi:.2f} dBi; expected agreement within "
+                    f"{PEAK_TOLERANCE_DB:g} dB"
+                )
+            bad = cut_plane_mismatch(sphere.az_deg, sphere.el_deg, sphere.gain_dbi, cuts,
+                                     CROSSING_TOLERANCE_DB)
+            if bad is not None:
+                cut, angle, _, _, g_t, g_c = bad
+                raise PatternError(
+                    f"{where}: the 3-D table gives {g_t:.2f} dBi and the {cut} cut {g_c:.2f} dBi "
+                    f"at its angle {angle:g} deg; expected agreement within "
+                    f"{CROSSING_TOLERANCE_DB:g} dB (the same direction)"
+                )
+        self.sphere = sphere
+        self.synthesis = method if sphere is None else SPHERE_SYNTHESIS
 
     def __repr__(self) -> str:
         return (
             f"TablePattern(name={self.name!r}, peak_gain_dbi={self.peak_gain_dbi:.2f}, "
-            f"method={self.method!r}, source={self.source!r})"
+            f"synthesis={self.synthesis!r}, source={self.source!r})"
         )
 
     # -- cuts ------------------------------------------------------------------------------
@@ -390,7 +429,12 @@ class TablePattern:
 
     # -- 3-D -------------------------------------------------------------------------------
     def gain_dbi(self, phi, theta) -> np.ndarray:
-        """Gain in any direction of the antenna frame (broadcasting ``phi``, ``theta``). [dBi]"""
+        """Gain in any direction of the antenna frame (broadcasting ``phi``, ``theta``). [dBi]
+
+        From the full-sphere table where the pattern has one, else synthesised from the cuts.
+        """
+        if self.sphere is not None:
+            return self.sphere.lookup_dbi(phi, theta)
         phi_deg = np.rad2deg(np.asarray(phi, dtype=float))
         elev = np.clip(np.rad2deg(np.asarray(theta, dtype=float)), -90.0, 90.0)
         h = self._h(phi_deg)
@@ -427,7 +471,8 @@ class TablePattern:
 
     def shifted(self, delta_db: float, *, name: str | None = None, source: str | None = None,
                 method: str | None = None) -> TablePattern:
-        """The same cuts raised by ``delta_db`` (and optionally another method). [dB]"""
+        """The same cuts (and 3-D table) raised by ``delta_db`` (and optionally another
+        method). [dB]"""
         return TablePattern(
             self.h_angle_deg, self.h_gain_dbi + delta_db,
             self.v_front_elev_deg, self.v_front_gain_dbi + delta_db,
@@ -438,6 +483,7 @@ class TablePattern:
             source=self.source if source is None else source,
             method=self.method if method is None else method,
             frequency_mhz=self.frequency_mhz,
+            sphere=None if self.sphere is None else self.sphere.shifted(delta_db),
         )
 
 

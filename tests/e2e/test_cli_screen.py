@@ -146,6 +146,59 @@ def test_bad_site_file_is_one_line_exit_2(tmp_path):
     assert len(p.stderr.strip().splitlines()) == 1
 
 
+def _loop_pattern_file(path):
+    """A small loop with horizontal axis (C. A. Balanis, Antenna Theory, 4th ed., Wiley, 2016,
+    sec. 5.2: G = 1.5 sin^2 of the angle from the loop axis, here the antenna's y axis) as a
+    pattern file with a 5 deg full-sphere 3-D table; returns the file's lines."""
+    import numpy as np
+
+    from siteexposure.readers.pattern_csv import write_pattern_csv
+
+    def db(a_deg, e_deg):
+        a, e = np.deg2rad(a_deg), np.deg2rad(e_deg)
+        return np.maximum(10 * np.log10(np.maximum(1.5 * (1 - (np.cos(e) * np.sin(a)) ** 2),
+                                                   1e-30)), -60.0)
+
+    az, el = np.arange(0.0, 360.0, 5.0), np.arange(-90.0, 90.001, 5.0)
+    write_pattern_csv(path, peak_gain_dbi=float(db(0.0, 0.0)), h_angle_deg=az,
+                      h_gain_dbi=db(az, 0.0), v_front_elev_deg=el, v_front_gain_dbi=db(0.0, el),
+                      v_back_elev_deg=el, v_back_gain_dbi=db(180.0, el),
+                      sphere=(az, el, db(az[:, None], el[None, :])), metadata={"name": "loop"})
+    return path.read_text().splitlines()
+
+
+def test_a_pattern_file_with_a_3d_table_screens_and_a_bad_table_is_one_line_exit_2(tmp_path):
+    """The window of SMALL_SITE is 45 deg clockwise of the antenna's boresight and
+    atan(4 / sqrt(50)) = 29.5 deg below it: the loop's gain there is
+    1.5 (1 - cos^2(29.5 deg) sin^2(45 deg)) = 0.932, so S = P G / (4 pi r^2) (OET-65 eq. (3),
+    equation number from memory) = 20 W x 0.932 / (4 pi x 66 m^2); a synthesis from the cuts
+    would give 1.5 cos^2(45 deg) = 0.75 there."""
+    import math
+
+    lines = _loop_pattern_file(tmp_path / "loop.csv")
+    site = tmp_path / "loop_site.toml"
+    site.write_text(SMALL_SITE.replace('pattern = { model = "isotropic" }', 'pattern = "loop.csv"'))
+    p = run("screen", str(site), "--json")
+    assert p.returncode == 0, p.stderr
+    d = json.loads(p.stdout)
+    assert "full-sphere table" in d["antennas"][0]["model"]["reason"]
+    el = math.atan2(4.0, math.sqrt(50.0))
+    gain = 1.5 * (1.0 - math.cos(el) ** 2 * 0.5)
+    window = d["points"][0]["antennas"][0]["power_density_w_m2"]
+    assert window == pytest.approx(20.0 * gain / (4.0 * math.pi * 66.0), rel=0.01)
+    # the same file with one cell of its 3-D table not a number
+    n = lines.index("azimuth_deg,elevation_deg,gain_dbi") + 40
+    lines[n - 1] = lines[n - 1].rsplit(",", 1)[0] + ",nan"
+    (tmp_path / "loop.csv").write_text("\n".join(lines) + "\n")
+    p = run("screen", str(site))
+    assert p.returncode == 2 and p.stdout == ""
+    err = p.stderr.strip().splitlines()
+    assert len(err) == 1 and "Traceback" not in p.stderr
+    assert err[0].startswith(f"Error: {site}: antenna \"T1\" > pattern: pattern file "
+                             f"'{tmp_path / 'loop.csv'}', line {n}: gain_dbi = 'nan'; expected "
+                             "a finite gain in dBi")
+
+
 def test_batch_over_processes_keeps_order_and_reports_bad_files(tmp_path, small_site):
     bad = tmp_path / "bad.toml"
     bad.write_text("[site]\nname = 3\n")

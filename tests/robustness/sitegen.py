@@ -76,11 +76,14 @@ def dump_toml(doc: dict[str, Any]) -> str:
 PATTERN_NAME = "deck_panel.csv"
 
 
-def pattern_text(peak: float = 10.0, step: float = 5.0) -> str:
+def pattern_text(peak: float = 10.0, step: float = 5.0, sphere_step: float | None = None) -> str:
     """A valid pattern CSV v1 text of an invented, smooth panel (peak ``peak`` dBi).
 
     Horizontal ``peak - 3 (1 - cos phi)``; vertical front ``peak - 12 (el/90)^2``; vertical
     back ``peak - 6 - 6 (el/90)^2``: the cuts agree at boresight, back, zenith and nadir.
+    With ``sphere_step``, a full-sphere 3-D table follows on that grid (azimuth 0 up to but
+    not including 360), ``f Vf(el) + (1 - f) Vb(el)`` with ``f = (1 + cos phi) / 2``: the
+    horizontal cut at el = 0, the vertical cuts at phi = 0 and 180, one value at each pole.
     """
     lines = ["# pattern CSV v1", f"# peak_gain_dbi = {peak!r}", "# frequency_mhz = 1950",
              "# electrical_tilt_deg = 0", "# name = invented deck panel",
@@ -94,6 +97,15 @@ def pattern_text(peak: float = 10.0, step: float = 5.0) -> str:
         for i in range(n_v + 1):
             e = -90.0 + i * step
             lines.append(f"vertical,{side},{e!r},{peak - drop - curve * (e / 90.0) ** 2:.6f}")
+    if sphere_step is not None:
+        lines.append("azimuth_deg,elevation_deg,gain_dbi")
+        for i in range(int(round(360.0 / sphere_step))):
+            a = i * sphere_step
+            f = 0.5 * (1.0 + math.cos(math.radians(a)))
+            for k in range(int(round(180.0 / sphere_step)) + 1):
+                e = -90.0 + k * sphere_step
+                g = f * (peak - 12.0 * (e / 90.0) ** 2) + (1.0 - f) * (peak - 6.0 - 6.0 * (e / 90.0) ** 2)
+                lines.append(f"{a!r},{e!r},{g:.6f}")
     return "\n".join(lines) + "\n"
 
 

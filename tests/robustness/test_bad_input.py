@@ -500,6 +500,48 @@ PATTERN_CASES = [
      "v1 file (relative paths start at the site file's folder)"),
 ]
 
+# the same file with a full-sphere 3-D table after its cuts (15 deg grid: 24 x 13 cells)
+_SPHERE = sitegen.pattern_text(sphere_step=15.0)
+_SLINES = _SPHERE.splitlines()
+_SH = _SLINES.index("azimuth_deg,elevation_deg,gain_dbi") + 1  # its header's line (153)
+
+
+def _cell(a: float, e: float) -> int:
+    """Line of the 3-D row at azimuth ``a``, elevation ``e`` [deg] (rows az-major)."""
+    return _SH + 1 + int(a // 15) * 13 + int((e + 90) // 15)
+
+
+def _sphere_with(n: int, text: str | None) -> str:
+    """The 3-D file with line ``n`` replaced by ``text`` (deleted if None)."""
+    return "\n".join(line if j != n else text for j, line in enumerate(_SLINES, 1)
+                     if j != n or text is not None) + "\n"
+
+
+PATTERN_CASES += [
+    ("3d-missing-cell", _sphere_with(_cell(30, 45), None),
+     _F3 + f", line {_cell(30, 30)}: no 3-D cell at azimuth 30 deg, elevation 45 deg (this line "
+     "holds that azimuth at elevation 30 deg); expected each of the table's 24 azimuths at each "
+     "of its 13 elevations (312 rows, 311 given)"),
+    ("3d-poles-disagree", _sphere_with(_cell(90, 90), "90.0,90.0,-6.0"),
+     _F3 + f", line {_cell(90, 90)}: at the zenith the 3-D table gives -6 dBi (azimuth 90 deg) and "
+     f"-2 dBi (azimuth 0 deg, line {_cell(0, 90)}); expected agreement within 1 dB across "
+     "azimuths (a pole is one direction)"),
+    ("3d-disagrees-with-the-front-cut", _sphere_with(_cell(0, 60), "0.0,60.0,6.666667"),
+     _F3 + f", line {_cell(0, 60)}: the 3-D table gives 6.66667 dBi at azimuth 0 deg, elevation "
+     f"60 deg and the vertical front cut 4.66667 dBi at 60 deg (line "
+     f"{_SLINES.index('vertical,front,60.0,4.666667') + 1}); expected agreement within 1 dB on "
+     "the cut planes (the same direction)"),
+    ("3d-gain-nan", _sphere_with(_cell(30, 45), "30.0,45.0,nan"),
+     _F3 + f", line {_cell(30, 45)}: gain_dbi = 'nan'; expected a finite gain in dBi within "
+     "-150..80"),
+    ("3d-cuts-row-after-the-table", _SPHERE + "horizontal,,2.5,9.9\n",
+     _F3 + f", line {len(_SLINES) + 1}: row 'horizontal,,2.5,9.9' of the cuts table comes after "
+     f"the 3-D table header on line {_SH}; expected all cuts rows before the 3-D table"),
+    ("3d-header-without-rows", "\n".join(_SLINES[:_SH]) + "\n",
+     _F3 + f", line {_SH}: the 3-D table header has no rows after it; expected rows "
+     "'azimuth_deg,elevation_deg,gain_dbi' covering the sphere"),
+]
+
 
 @pytest.mark.parametrize(("content", "message"), [c[1:] for c in PATTERN_CASES],
                          ids=[c[0] for c in PATTERN_CASES])
@@ -518,6 +560,14 @@ def test_broken_pattern_file(tmp_path, content, message):
     line = sitegen.assert_one_line_error(run)
     assert run.stdout == ""
     _check_message(line, f"Error: {site}: " + message.replace("{pattern}", str(pattern)))
+
+
+def test_a_pattern_file_with_a_valid_3d_table_passes(tmp_path):
+    """The base of the 3-D cases is valid: each failure above comes from its one edit."""
+    site = sitegen.write_site(tmp_path, sitegen.base_site(), pattern=_SPHERE)
+    run = sitegen.run_cli(["screen", site, "--json", "--no-progress"])
+    assert run.code == 0, run.stderr
+    assert run.stdout.startswith("{")
 
 
 # --------------------------------------------------------------------------------------

@@ -264,7 +264,11 @@ def check_pattern_file(path: Path) -> str:
         vb0 = float(np.interp(0.0, pattern.v_back_elev_deg, vb))
         data_max = max(float(np.max(pattern.h_gain_dbi)), float(vf.max()), float(vb.max()))
         rise = max(0.0, float(vf.max()) - vf0, float(vb.max()) - vb0)
-        assert peak <= data_max + rise + 1e-9
+        if pattern.sphere is not None:  # bilinear in dB never leaves the table's range
+            assert peak <= pattern.sphere.max_gain_dbi + 1e-9
+            assert pattern.sphere.max_gain_dbi <= float(pattern.peak_gain_dbi) + 0.5 + 1e-9
+        else:
+            assert peak <= data_max + rise + 1e-9
         assert data_max <= float(pattern.peak_gain_dbi) + 0.5 + 1e-9
     return "accepted"
 
@@ -293,7 +297,8 @@ def _site_case(data: st.DataObject) -> None:
 
 
 def _pattern_case(data: st.DataObject) -> None:
-    lines = sitegen.pattern_text().splitlines(keepends=True)
+    sphere = data.draw(st.sampled_from([None, None, 15.0]), label="sphere_step")  # a 3-D table
+    lines = sitegen.pattern_text(sphere_step=sphere).splitlines(keepends=True)
     for _ in range(data.draw(st.integers(0, 3), label="n_field_edits")):
         i = data.draw(st.integers(0, len(lines) - 1), label="line")
         fields = lines[i].rstrip("\n").split(",")
