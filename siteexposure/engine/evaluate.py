@@ -48,13 +48,28 @@ def densities(sources: Sequence[Source], points_enu: np.ndarray) -> np.ndarray:
     ndarray, shape (n_source, n_point)
         Power density. [W/m^2]
     """
-    from siteexposure.physics.sources import power_density
+    s_e, s_h = field_densities(sources, points_enu)
+    return np.fmax(s_e, s_h) + 0.0 * (s_e + s_h)
 
-    out = np.empty((len(sources), len(points_enu)))
+
+def field_densities(sources: Sequence[Source], points_enu: np.ndarray
+                    ) -> tuple[np.ndarray, np.ndarray]:
+    """E- and H-field densities of every source at every point, NaN where not assessable.
+
+    Returns
+    -------
+    s_e, s_h : ndarray, shape (n_source, n_point)
+        ``|E_rms|^2 / eta0`` and ``eta0 |H_rms|^2``. [W/m^2]
+    """
+    from siteexposure.physics.sources import field_densities as one
+
+    s_e = np.empty((len(sources), len(points_enu)))
+    s_h = np.empty_like(s_e)
     for i, src in enumerate(sources):
-        s, ok = power_density(src.radiator, src.choice, points_enu)
-        out[i] = np.where(ok, s, np.nan)
-    return out
+        est = one(src.radiator, src.choice, points_enu)
+        s_e[i] = est.fields.s_e
+        s_h[i] = est.fields.s_h
+    return s_e, s_h
 
 
 def column_ratios(
@@ -66,6 +81,7 @@ def column_ratios(
     reducers: Sequence[str],
     *,
     progress: Callable[[int], None] | None = None,
+    h_rows: np.ndarray | None = None,
 ) -> np.ndarray:
     """Exposure ratios of vertical averaging lines standing on a floor.
 
@@ -85,6 +101,8 @@ def column_ratios(
         or the maximum (peak).
     progress : callable, optional
         Called with the number of columns finished after each chunk.
+    h_rows : ndarray of bool, shape (n_combo,), optional
+        Rows that sum the magnetic-field densities ``S_H`` (the others ``S_E``).
 
     Returns
     -------
@@ -107,7 +125,7 @@ def column_ratios(
         pts = np.empty((len(cols), k, 3))
         pts[..., :2] = cols[:, None, :]
         pts[..., 2] = floor_m + heights[None, :]
-        red = reduced_ratio_sums(sources, pts.reshape(-1, 3), weights, k, is_max)
+        red = reduced_ratio_sums(sources, pts.reshape(-1, 3), weights, k, is_max, h_rows=h_rows)
         out[:, start : start + len(cols)] = red
         if progress is not None:
             progress(len(cols))

@@ -63,7 +63,8 @@ def add_mitigation(site, ar: AreaResult, sources: list[Source], table: ComboTabl
 def _ratio_of_subset(sources, table, rows, reducers, cols, floor_m, heights, members) -> np.ndarray:
     """Governing ratio over ``rows`` at ``cols`` counting only the sources in ``members``."""
     w = table.weights[rows] * np.array([src.id in members for src in sources], dtype=float)[None, :]
-    vals = column_ratios(sources, cols, floor_m, heights, w, [reducers[r] for r in rows])
+    vals = column_ratios(sources, cols, floor_m, heights, w, [reducers[r] for r in rows],
+                         h_rows=table.h_rows[rows])
     return vals
 
 
@@ -117,7 +118,8 @@ def _height_scan(ar, summ, cols, sources, table, rows, reducers, heights, moved:
     static_ids = {s.id for s in sources} - moved
     sub_rows = [reducers[r] for r in rows]
     w_static = table.weights[rows] * np.array([s.id in static_ids for s in sources], float)[None, :]
-    r_static = column_ratios(sources, cols, floor, heights, w_static, sub_rows)
+    h_rows = table.h_rows[rows]
+    r_static = column_ratios(sources, cols, floor, heights, w_static, sub_rows, h_rows=h_rows)
     keep = np.all(np.isfinite(r_static), axis=0)
     if np.any(r_static[:, keep] > 1.0):
         return None
@@ -130,7 +132,8 @@ def _height_scan(ar, summ, cols, sources, table, rows, reducers, heights, moved:
             src = sources[n]
             pos = np.asarray(src.radiator.position_m, float) + np.array([0.0, 0.0, dh])
             raised.append(Source(src.id, dataclasses.replace(src.radiator, position_m=pos), src.choice))
-        r_moved = column_ratios(raised, cols[keep], floor, heights, w_moved, sub_rows)
+        r_moved = column_ratios(raised, cols[keep], floor, heights, w_moved, sub_rows,
+                                h_rows=h_rows)
         total = r_static[:, keep] + r_moved
         return bool(np.all(np.isfinite(total)) and np.all(total <= 1.0))
 

@@ -17,9 +17,10 @@ from collections.abc import Iterator
 import numpy as np
 
 from siteexposure import __version__
+from siteexposure.constants import ETA0
 from siteexposure.containers import Area, Site
 from siteexposure.engine.combos import POPULATIONS, ComboTable, build_combos, governing
-from siteexposure.engine.evaluate import Source, column_ratios, densities
+from siteexposure.engine.evaluate import Source, column_ratios, field_densities
 from siteexposure.engine.grid import (
     MAX_POINTS_PER_AREA,
     build_grid,
@@ -327,7 +328,8 @@ def _evaluate_area(site, area: Area, grid, sources, table: ComboTable, heights, 
         return AreaResult(area, grid.east_m, grid.north_m, grid.inside, assess, ratio)
     jj, ii = np.nonzero(grid.evaluate)
     cols = np.vstack([np.column_stack([grid.east_m[ii], grid.north_m[jj]]), grid.samples_en])
-    values = column_ratios(sources, cols, area.floor_m, heights, table.weights, reducers, progress=tick)
+    values = column_ratios(sources, cols, area.floor_m, heights, table.weights, reducers,
+                           progress=tick, h_rows=table.h_rows)
     n_cells = len(jj)
     for set_id in site.limits:
         for pop in POPULATIONS:
@@ -390,10 +392,10 @@ def _shares_at_column(site, en, floor_m, sources, table: ComboTable, heights, se
     rows = table.rows_for(set_id, pop)
     reducers = table.reducers(site.averaging.method)
     pts = np.column_stack([np.full(len(heights), en[0]), np.full(len(heights), en[1]), floor_m + heights])
-    s = densities(sources, pts)  # (n_source, k)
+    s_e, s_h = field_densities(sources, pts)  # (n_source, k)
     best_val, best_row, best_share = -np.inf, rows[0], {}
     for row in rows:
-        per = table.weights[row][:, None] * s  # (n_source, k)
+        per = table.weights[row][:, None] * (s_h if table.h_rows[row] else s_e)  # (n_source, k)
         if reducers[row] == "mean":
             contrib = per.mean(axis=1)
         else:
@@ -419,17 +421,24 @@ def evaluate_point(site: Site, at_m, *, name: str = "point", access: str = "publ
     else:
         sources, table = _ctx
     at = np.asarray(at_m, dtype=float).reshape(3)
-    s = densities(sources, at[None, :])[:, 0] if sources else np.zeros(0)
+    if sources:
+        s_e, s_h = (v[:, 0] for v in field_densities(sources, at[None, :]))
+    else:
+        s_e = s_h = np.zeros(0)
+    s = np.fmax(s_e, s_h) + 0.0 * (s_e + s_h)
     bad = [src.id for src, v in zip(sources, s, strict=True) if not np.isfinite(v)]
     exposure = []
     for set_id in site.limits:
         for pop in POPULATIONS:
             rows = table.rows_for(set_id, pop)
-            vals = [float(table.weights[r] @ np.nan_to_num(s)) for r in rows]
+            per = [table.weights[r] * (s_h if table.h_rows[r] else s_e) for r in rows]
+            vals = [float(np.nansum(p)) for p in per]
             k = int(np.argmax(vals))
-            share = {src.id: float(table.weights[rows[k]][n] * s[n]) for n, src in enumerate(sources) if np.isfinite(s[n])}
+            share = {src.id: float(per[k][n]) for n, src in enumerate(sources)
+                     if np.isfinite(per[k][n])}
             exposure.append(
-                PointExposure(set_id, pop, None if bad else vals[k], table.combos[rows[k]].region, share)
+                PointExposure(set_id, pop, None if bad else vals[k], table.combos[rows[k]].region,
+                              share, table.combos[rows[k]].field)
             )
     reason = ""
     if bad:
@@ -441,6 +450,10 @@ def evaluate_point(site: Site, at_m, *, name: str = "point", access: str = "publ
         at_m=at,
         access=access,
         density_w_m2={src.id: (float(v) if np.isfinite(v) else None) for src, v in zip(sources, s, strict=True)},
+        e_v_m={src.id: (float(np.sqrt(v * ETA0)) if np.isfinite(v) else None)
+               for src, v in zip(sources, s_e, strict=True)},
+        h_a_m={src.id: (float(np.sqrt(v / ETA0)) if np.isfinite(v) else None)
+               for src, v in zip(sources, s_h, strict=True)},
         assessable=not bad,
         reason=reason,
         exposure=exposure,
@@ -461,19 +474,22 @@ def _note_power_floor(sources, records) -> None:
 
 
 def _keep_out(sources, records, table: ComboTable) -> None:
-    """Per-antenna compliance boundaries against each set's whole-body limit, in 3-D
-    (:mod:`siteexposure.physics.keepout`): distances from the envelope, along the beam, and
-    the box and cylinder a crew can mark out. The stand-off is part of every zone."""
+    """Per-antenna compliance boundaries against each set's whole-body limits (E and H each
+    against its own), in 3-D (:mod:`siteexposure.physics.keepout`): distances from the
+    envelope, along the beam, and the box and cylinder a crew can mark out. The stand-off is
+    part of every zone."""
     from siteexposure.physics.keepout import KeepOutSearch
 
     for n, (src, rec) in enumerate(zip(sources, records, strict=True)):
         search = KeepOutSearch(src.radiator, src.choice)
         for i, combo in enumerate(table.combos):
-            if combo.region != "whole-body":
+            if combo.region != "whole-body" or combo.field != "e":
                 continue
-            limit = float(table.limits_w_m2[i, n])
+            j = table.index(combo.set_id, combo.population, combo.region, "h")
+            lim_e = float(table.limits_w_m2[i, n])
+            lim_h = float(table.limits_w_m2[j, n])
             key = (combo.set_id, combo.population)
-            rec.limit_w_m2[key] = limit
-            found = search.boundary(limit)
+            rec.limit_w_m2[key] = min(lim_e, lim_h)
+            found = search.boundary(lim_e, lim_h)
             rec.keep_out_m[key] = dict(found.distances_m)
             rec.keep_out_shape[key] = {"box": found.box_m, "cylinder": found.cylinder_m}

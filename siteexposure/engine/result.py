@@ -150,6 +150,7 @@ class PointExposure:
     exposure_ratio: float | None  #: None where not assessable
     governing_region: str
     antenna_share: dict[str, float]
+    governing_field: str = "e"  #: e (electric field against the E limit) | h (magnetic)
 
 
 @dataclass
@@ -159,10 +160,12 @@ class PointResult:
     name: str
     at_m: np.ndarray
     access: str
-    density_w_m2: dict[str, float | None]  #: per antenna id; None where not assessable
+    density_w_m2: dict[str, float | None]  #: per antenna id, max(S_E, S_H); None: not assessable
     assessable: bool
     reason: str  #: why not assessable ("" if assessable)
     exposure: list[PointExposure]
+    e_v_m: dict[str, float | None] = field(default_factory=dict)  #: RMS E per antenna [V/m]
+    h_a_m: dict[str, float | None] = field(default_factory=dict)  #: RMS H per antenna [A/m]
 
 
 @dataclass

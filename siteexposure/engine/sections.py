@@ -27,10 +27,9 @@ import numpy as np
 
 from siteexposure.containers import Site
 from siteexposure.engine.combos import POPULATIONS, ComboTable, build_combos, governing
-from siteexposure.engine.evaluate import BLOCK_ELEMENTS, Source, densities
+from siteexposure.engine.evaluate import BLOCK_ELEMENTS, Source, field_densities
 from siteexposure.engine.result import SiteResult
 from siteexposure.errors import InputError
-from siteexposure.physics.exposure import weighted_sums
 
 __all__ = ["adaptive_cut", "cut_extent", "cut_points_enu", "elevation_cut"]
 
@@ -113,7 +112,7 @@ def elevation_cut(
 
     Notes
     -----
-    Densities come from :func:`siteexposure.engine.evaluate.densities` in chunks of at
+    Densities come from :func:`siteexposure.engine.evaluate.field_densities` in chunks of at
     most ``BLOCK_ELEMENTS`` (source x point) values, so memory stays bounded.
     """
     half = float(half_width_m)
@@ -138,8 +137,8 @@ def elevation_cut(
     if sources:
         chunk = max(1, BLOCK_ELEMENTS // len(sources))
         for start in range(0, len(pts), chunk):
-            s = densities(sources, pts[start : start + chunk])
-            values[:, start : start + chunk] = weighted_sums(s, table.weights)
+            s_e, s_h = field_densities(sources, pts[start : start + chunk])
+            values[:, start : start + chunk] = table.row_sums(s_e, s_h)
     ratio = {}
     for set_id in dict.fromkeys(c.set_id for c in table.combos):
         for pop in POPULATIONS:

@@ -109,6 +109,10 @@ NULL_HALF_WIDTH_DEG = 10.0  #: how far to each side the lobes of a null are look
 _FIT_STEP_DEG = 0.5
 _CHUNK_ELEMENTS = 1_500_000  # (n_sub x n_point) block size of the near-field sum
 COLUMN_MIN_WL = 0.45  #: shorter vertical bodies take the lattice's thin-wire current [lambda]
+#: a taper fit off by more than this on the cut's main beam is refitted with the main beam
+#: weighted MAIN_BEAM_WEIGHT times (:func:`main_beam_misfit_db`) [dB], [1]
+MAIN_BEAM_MISFIT_DB = 3.0
+MAIN_BEAM_WEIGHT = 10.0
 
 
 def n_sub_sources(height_m: float, wavelength_m: float) -> int:
@@ -223,7 +227,8 @@ def _element_table(pattern) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndar
     return 10.0 ** (near_db / 10.0), 10.0 ** (far_db / 10.0), el, 10.0 ** (g_v_db / 10.0)
 
 
-def _fit_taper(z_m, k, el, g_v, tilt_rad, element=None) -> tuple[np.ndarray, float]:
+def _fit_taper(z_m, k, el, g_v, tilt_rad, element=None, mu: float = 0.5,
+               main_weight: float = 1.0) -> tuple[np.ndarray, float]:
     """Real symmetric amplitudes ``A`` (max 1) and scale ``K`` with ``K cos^2 |AF_A|^2 ~ g_v``.
 
     A least-squares fit in dB of the column's far-field vertical pattern to the vertical cut
@@ -252,8 +257,8 @@ def _fit_taper(z_m, k, el, g_v, tilt_rad, element=None) -> tuple[np.ndarray, flo
     g_max = g_v.max()
     floor = g_max * 10.0 ** (-FIT_FLOOR_DB / 10.0)
     target_db = 10.0 * np.log10(g_v + floor)
-    w = np.where(g_v >= 0.01 * g_max, 1.0, 0.3)
-    mu = 0.5  # smoothness of the taper (second differences), relative to its mean
+    w = _fit_weights(g_v, main_weight)
+    # mu: smoothness of the taper (second differences), relative to its mean
 
     def model(x):
         b, logk = x[:half], x[half]
@@ -296,6 +301,25 @@ def _fit_taper(z_m, k, el, g_v, tilt_rad, element=None) -> tuple[np.ndarray, flo
     if not np.any(a > 0):
         a, kk = np.ones(n), g_max / max(np.abs(basis.sum(1)).max() ** 2, 1e-300)
     return a / a.max(), float(kk * a.max() ** 2)
+
+
+def _fit_weights(g_v, main_weight: float = 1.0) -> np.ndarray:
+    """Weights of the dB residuals of the taper fits: ``main_weight`` within 10 dB of the
+    peak, 1 down to -20 dB, 0.3 below."""
+    g = np.asarray(g_v, dtype=float)
+    top = g.max()
+    return np.where(g >= 0.1 * top, main_weight, np.where(g >= 0.01 * top, 1.0, 0.3))
+
+
+def main_beam_misfit_db(z_m, k, el, g_v, tilt_rad, amp, kk, element=None) -> float:
+    """Largest dB error of a fitted column on the cut's main beam (within 10 dB of its peak).
+    [dB]"""
+    elem = np.cos(el) if element is None else np.asarray(element, dtype=float)
+    af = np.exp(1j * k * np.outer(np.sin(el) + np.sin(tilt_rad), z_m)) @ amp
+    fit = kk * (elem * np.abs(af)) ** 2
+    main = g_v >= 0.1 * g_v.max()
+    with np.errstate(divide="ignore"):
+        return float(np.max(np.abs(10.0 * np.log10(fit[main] / g_v[main]))))
 
 
 def _taper_starts(z_m, k, el, g_v) -> np.ndarray:
@@ -369,7 +393,7 @@ def _fit_quadratic_phase(z_m, k, el, g_v, tilt_rad, a_real, k_real, element=None
     g_max = g_v.max()
     floor = g_max * 10.0 ** (-FIT_FLOOR_DB / 10.0)
     target_db = 10.0 * np.log10(g_v + floor)
-    w = np.where(g_v >= 0.01 * g_max, 1.0, 0.3)
+    w = _fit_weights(g_v)
     ridge = 1.0
     c = 10.0 / np.log(10.0)
     g_db = 10.0 * np.log10(np.maximum(g_v, 1e-300))
@@ -729,7 +753,14 @@ def _fit_column_shape(table, table_far, el, g_v, tilt_data: float, tilt: float,
     n = n_sub_sources(h, lam)
     d = h / n
     z = (np.arange(n) + 0.5) * d - 0.5 * h
-    amp, kk = _fit_taper(z, k, el, g_v, np.deg2rad(tilt_data))
+    tr = np.deg2rad(tilt_data)
+    amp, kk = _fit_taper(z, k, el, g_v, tr)
+    if main_beam_misfit_db(z, k, el, g_v, tr, amp, kk) > MAIN_BEAM_MISFIT_DB:
+        # an envelope the column cannot radiate (ITU-R F.1336: a side-lobe floor no real
+        # column has): with equal weights the fit raised its level to meet the floor and left
+        # the main beam far too strong (a 14 dBi omni on 20 m at 600 MHz: +27 dB, so that the
+        # near field radiated 60x the input power); match the main beam first
+        amp, kk = _fit_taper(z, k, el, g_v, tr, main_weight=MAIN_BEAM_WEIGHT)
     amp, kk = _fit_quadratic_phase(z, k, el, g_v, np.deg2rad(tilt_data), amp, kk)
     corr = np.ones(181)
     if abs(tilt - tilt_data) < 1e-9:  # fit residual on the front cut, 1 deg steps

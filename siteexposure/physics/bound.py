@@ -96,7 +96,8 @@ def cone_maxima(pattern) -> tuple[np.ndarray, float]:
     phi = np.deg2rad(np.arange(0.0, 360.0, _STEP_DEG))
     el = np.deg2rad(np.arange(-90.0, 90.0 + 0.5 * _STEP_DEG, _STEP_DEG))
     g = np.asarray(pattern.gain(phi[:, None], el[None, :]), dtype=float)
-    if getattr(pattern, "sphere", None) is None:
+    if hasattr(pattern, "horizontal_cut") and hasattr(pattern, "h_angle_deg") and getattr(
+            pattern, "sphere", None) is None:  # a file's cuts: their 3-D gain is a synthesis
         g = np.maximum(g, rotational_envelope(pattern, phi[:, None], el[None, :]))
     g = np.where(np.isfinite(g), np.maximum(g, 0.0), np.inf)  # a bad gain never lowers a bound
     i, j = np.unravel_index(int(np.argmax(g)), g.shape)

@@ -728,12 +728,13 @@ def kernel_source(src) -> bool:
             and fast_eligible(src.radiator))
 
 
-def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
+def ratio_sums(sources: Sequence, points_enu, weights, h_rows=None) -> np.ndarray:
     """Weighted exposure-ratio sums of the engine's sources, fused where possible.
 
     Sources whose chosen model is ``far-field`` and whose pattern is a pattern file take
-    :func:`far_field_ratio_sums`; every other source
-    :func:`siteexposure.physics.sources.power_density`. Equals
+    :func:`far_field_ratio_sums` (their E and H densities are equal); every other source
+    :func:`siteexposure.physics.sources.field_densities`, each row summing the densities of
+    its field (``h_rows``: the rows of the magnetic field, ``S_H``; the others ``S_E``). Equals
     ``weighted_sums(densities(sources, points), weights)`` of
     :mod:`siteexposure.engine.evaluate`.
 
@@ -759,17 +760,25 @@ def ratio_sums(sources: Sequence, points_enu, weights) -> np.ndarray:
         plan = _cached_plan(tuple(srcs[i].radiator for i in fast))
         out = far_field_ratio_sums(plan, pts, w[:, fast])
     if rest:
-        from siteexposure.physics.sources import power_density
+        from siteexposure.physics.sources import field_densities
 
-        s = np.empty((len(rest), pts.shape[0]))
+        s_e = np.empty((len(rest), pts.shape[0]))
+        s_h = np.empty_like(s_e)
         for k, i in enumerate(rest):
-            s_i, ok = power_density(srcs[i].radiator, srcs[i].choice, pts)
-            s[k] = np.where(ok, s_i, np.nan)
-        out = out + weighted_sums(s, w[:, rest])
+            est = field_densities(srcs[i].radiator, srcs[i].choice, pts)
+            s_e[k], s_h[k] = est.fields.s_e, est.fields.s_h
+        h = (np.zeros(w.shape[0], dtype=bool) if h_rows is None
+             else np.asarray(h_rows, dtype=bool).reshape(-1))
+        add = np.empty_like(out)
+        if (~h).any():
+            add[~h] = weighted_sums(s_e, w[~h][:, rest])
+        if h.any():
+            add[h] = weighted_sums(s_h, w[h][:, rest])
+        out = out + add
     return out
 
 
-def reduced_ratio_sums(sources: Sequence, points_enu, weights, group: int, is_max
+def reduced_ratio_sums(sources: Sequence, points_enu, weights, group: int, is_max, h_rows=None
                        ) -> np.ndarray:
     """:func:`ratio_sums` reduced over consecutive groups of points (averaging lines).
 
@@ -809,5 +818,5 @@ def reduced_ratio_sums(sources: Sequence, points_enu, weights, group: int, is_ma
         lines = bool(np.all(en == en[:, :1, :]))  # vertical lines: one east/north per group
         return _run_kernel(_cached_plan(tuple(s.radiator for s in srcs)), pts, w, group, flags,
                            lines)
-    r = ratio_sums(srcs, pts, w).reshape(w.shape[0], -1, group)
+    r = ratio_sums(srcs, pts, w, h_rows).reshape(w.shape[0], -1, group)
     return np.where(flags[:, None], r.max(axis=2), r.mean(axis=2))

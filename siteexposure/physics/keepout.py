@@ -148,10 +148,16 @@ class KeepOutSearch:
         return dirs, spacing
 
     def _density(self, points_enu) -> np.ndarray:
-        from siteexposure.physics.sources import power_density
+        """E- and H-field densities, stacked on a last axis of 2. [W/m^2]"""
+        from siteexposure.physics.sources import field_densities
 
-        s, _ = power_density(self.rad, self.choice, points_enu)
-        return s
+        est = field_densities(self.rad, self.choice, points_enu)
+        return np.stack([est.fields.s_e, est.fields.s_h], axis=-1)
+
+    @staticmethod
+    def _ratio(s2: np.ndarray, lim_e: float, lim_h: float) -> np.ndarray:
+        """``max(S_E / lim_e, S_H / lim_h)``, NaN where not assessable. [1]"""
+        return np.fmax(s2[..., 0] / lim_e, s2[..., 1] / lim_h) + 0.0 * s2.sum(axis=-1)
 
     def _reach_m(self, limit: float) -> float:
         """A range beyond which even the peak gain, measured from the body's far side,
@@ -171,18 +177,23 @@ class KeepOutSearch:
         if done is None or len(done[0]) < n + 1:
             radii = np.concatenate([[0.0], r0 * RADIUS_RATIO ** np.arange(n)])
             pts = self.centre_enu + radii[None, :, None] * self.dirs[:, None, :]
-            s = self._density(pts.reshape(-1, 3)).reshape(len(self.dirs), len(radii))
+            s = self._density(pts.reshape(-1, 3)).reshape(len(self.dirs), len(radii), 2)
             done = (radii, s)
             self._radii_cache["grid"] = done
-        return done[0][: n + 1], done[1][:, : n + 1]
+        return done[0][: n + 1], done[1][:, : n + 1, :]
 
     # -- the boundary -------------------------------------------------------------------
-    def boundary(self, limit_w_m2: float) -> Boundary:
-        limit = float(limit_w_m2)
-        if not np.isfinite(limit) or limit <= 0.0:
-            raise InputError(f"power-density limit: {limit_w_m2!r}; expected a positive number")
+    def boundary(self, limit_w_m2: float, limit_h_w_m2: float | None = None) -> Boundary:
+        """The boundary where this antenna's ``S_E`` reaches ``limit_w_m2`` or its ``S_H``
+        reaches ``limit_h_w_m2`` (the same limit when not given). [W/m^2]"""
+        lim_e = float(limit_w_m2)
+        lim_h = lim_e if limit_h_w_m2 is None else float(limit_h_w_m2)
+        for v, given in ((lim_e, limit_w_m2), (lim_h, limit_h_w_m2)):
+            if not np.isfinite(v) or v <= 0.0:
+                raise InputError(f"power-density limit: {given!r}; expected a positive number")
+        limit = min(lim_e, lim_h)
         radii, s = self._samples(self._reach_m(limit))
-        over = ~(s < limit)  # NaN (not assessable) counts as exceeding
+        over = ~(self._ratio(s, lim_e, lim_h) < 1.0)  # NaN (not assessable) counts as exceeding
         any_over = over.any(axis=1)
         last = np.where(any_over, over.shape[1] - 1 - np.argmax(over[:, ::-1], axis=1), 0)
         lo = radii[last]
@@ -194,7 +205,7 @@ class KeepOutSearch:
             mid = 0.5 * (lo[rays] + hi[rays])
             pts = self.centre_enu + mid[:, None] * self.dirs[rays]
             sm = self._density(pts)
-            up = ~(sm < limit)
+            up = ~(self._ratio(sm, lim_e, lim_h) < 1.0)
             lo[rays] = np.where(up, mid, lo[rays])
             hi[rays] = np.where(up, hi[rays], mid)
         reach = np.where(any_over, hi, 0.0)
@@ -235,9 +246,12 @@ class KeepOutSearch:
         return site_from_antenna(c + signs * half, self.rad.position_m, self.rad.azimuth_deg,
                                  self.rad.mechanical_tilt_deg)
 
-    def exceeds(self, points_enu, limit_w_m2: float) -> np.ndarray:
-        """True where the antenna's own density reaches the limit (or is not assessable)."""
-        return ~(self._density(points_enu) < float(limit_w_m2))
+    def exceeds(self, points_enu, limit_w_m2: float, limit_h_w_m2: float | None = None
+                ) -> np.ndarray:
+        """True where the antenna's own E or H density reaches its limit (or where it is not
+        assessable)."""
+        lim_h = float(limit_w_m2) if limit_h_w_m2 is None else float(limit_h_w_m2)
+        return ~(self._ratio(self._density(points_enu), float(limit_w_m2), lim_h) < 1.0)
 
 
 def keep_out_distances(rad, choice, limit_w_m2: float) -> dict[str, float]:

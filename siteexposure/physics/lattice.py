@@ -88,6 +88,8 @@ MAX_THIN_WIRE = 400
 #: (-40 dB): a real antenna's nulls are finite, and the correction then has something to
 #: scale where the elements alone have an exact null [1]
 FILL = 1e-4
+#: the correction reshapes the lattice's own field by at most this above its beam [dB]
+CORRECTION_CAP_DB = 6.0
 MAX_DEPTH = 40
 _BLOCK = 128
 _AZ = np.deg2rad(np.arange(0.0, 360.0, 1.0))
@@ -343,8 +345,22 @@ def _sinusoidal(s_m: np.ndarray, length_m: float, k: float) -> np.ndarray:
 
 
 def _fit_endfire(x_m, k, psi, g_lin, floor_db=FIT_FLOOR_DB) -> np.ndarray:
-    """Complex weights ``A_i exp(-j beta k x_i)`` of the rows along the depth, fitted in dB to
-    the H-plane cut ``g_lin(psi)`` (``psi`` the angle from boresight). [1]"""
+    """Complex weights of the rows along the depth, fitted in dB to the H-plane cut
+    ``g_lin(psi)`` (``psi`` the angle from boresight). [1]
+
+    The weights are smooth by construction: ``exp(c1 t + c2 t^2) exp(-j (beta k x + q t^2))``
+    with ``t`` the row position scaled to -1..1 (+1 at the front) -- an amplitude that decays
+    along the boom towards the front (``c1 <= 0``: the cut cannot tell a growing from a
+    decaying current, both radiate the same ``|AF|``; in a Yagi or a log-periodic array the
+    driven and reflecting elements at the back carry the larger currents, common practice)
+    and bulges or sags, a progressive end-fire phase ``beta`` and a quadratic phase
+    ``q``. Four numbers fix the H-plane pattern's main lobe, front-to-back ratio and side-lobe
+    level; free amplitudes per row fit the cut as well but take any of many current
+    distributions with the same far field (the cut fixes only ``|AF|``), some of them wild,
+    whose near fields differ. Least squares on the dB residual above the floor (the level is
+    free), from ordinary end-fire and Hansen-Woodyard starts (Balanis 4th ed. sec. 6.4, from
+    memory); the best is kept.
+    """
     from scipy.optimize import least_squares
 
     n = x_m.size
@@ -352,35 +368,33 @@ def _fit_endfire(x_m, k, psi, g_lin, floor_db=FIT_FLOOR_DB) -> np.ndarray:
         return np.ones(1, complex)
     u = np.cos(psi)
     target = 10.0 * np.log10(np.maximum(g_lin, g_lin.max() * 10 ** (-floor_db / 10)))
+    lo_db = target.max() - floor_db
     depth = float(x_m.max() - x_m.min())
     xc = x_m - 0.5 * (x_m.max() + x_m.min())
-
+    t = xc / max(0.5 * depth, 1e-12)
     basis = np.exp(1j * k * np.outer(u, xc))  # (n_angle, n)
 
-    def model(x):
-        af = basis @ (x[:n] * np.exp(-1j * k * x[n] * xc))
-        return 10.0 * np.log10(af.real**2 + af.imag**2 + 1e-30)
+    def weights(x):
+        c1, c2, beta, q = x
+        return np.exp(c1 * t + c2 * t * t) * np.exp(-1j * (beta * k * xc + q * t * t))
 
     def fun(x):
-        m = model(x)
+        f = basis @ weights(x)
+        m = 10.0 * np.log10(f.real**2 + f.imag**2 + 1e-30)
         off = np.mean(target - m)
-        reg = 0.3 * np.diff(x[:n], 2) / max(np.mean(x[:n]), 1e-9)
-        return np.concatenate([np.maximum(m + off, target.max() - floor_db) - target, reg])
+        return np.maximum(m + off, lo_db) - target
 
     best = None
     lam = 2.0 * np.pi / k
     for beta0 in (1.0, 1.0 + 0.25 * lam / max(depth, 1e-9), 1.0 + 0.5 * lam / max(depth, 1e-9)):
-        for shape in (np.ones(n), np.linspace(1.0, 0.4, n), np.linspace(0.4, 1.0, n)):
-            x0 = np.concatenate([shape, [beta0]])
-            lo = np.concatenate([np.zeros(n), [0.0]])
-            hi = np.concatenate([np.full(n, np.inf), [3.0]])
-            sol = least_squares(fun, x0, bounds=(lo, hi), method="trf", max_nfev=60)
+        for c10 in (0.0, -0.7):
+            sol = least_squares(fun, np.array([c10, 0.0, beta0, 0.0]),
+                                bounds=([-3.0, -3.0, 0.0, -np.pi], [0.0, 3.0, 3.0, np.pi]),
+                                method="trf", max_nfev=200, x_scale=[1.0, 1.0, 0.1, 1.0])
             if best is None or sol.cost < best.cost:
                 best = sol
-    a = best.x[:n]
-    if not np.any(a > 0):
-        a = np.ones(n)
-    return (a / a.max()) * np.exp(-1j * best.x[n] * k * xc)
+    w = weights(best.x)
+    return w / np.abs(w).max()
 
 
 # -- the model --------------------------------------------------------------------------------
@@ -429,6 +443,11 @@ class SourceLattice:
     fill_w: float = 0.0  #: incoherent fill FILL x peak intensity, scaled: S += fill_w / r^2 [W]
     #: a single thin wire of known (sinusoidal) current: validated down to the stand-off
     thin_wire: bool = False
+    #: end-fire bodies: the moments with the amplitude profile reversed along the boom (the
+    #: near field is the larger of the two); None otherwise
+    alt_moments: tuple | None = None
+    #: far-field intensity the capped correction leaves out, scaled (360, 181) [W/sr]
+    deficit_table: np.ndarray | None = None
 
     @classmethod
     def from_radiator(cls, rad, cache=None) -> SourceLattice:
@@ -450,7 +469,8 @@ class SourceLattice:
                           ground, float(rad.electrical_tilt_deg))
         shape = cache.get("lattice-shape", key, lambda: _lattice_shape(rad, centre, half, ground),
                           hold=(rad.pattern,))
-        src, me_u, mm_u, near_t, far_t, p_unit, g_model_peak, kind, layout, fill, thin = shape
+        (src, me_u, mm_u, near_t, far_t, p_unit, g_model_peak, kind, layout, fill, thin, alt,
+         deficit) = shape
         boost = max(1.0, float(dbi_to_linear(rad.pattern.peak_gain_dbi)) / g_model_peak)
         scale = math.sqrt(boost * rad.power_w / p_unit) if rad.power_w > 0 else 0.0
         big = body.largest_dimension_m * (2.0 if ground is not None else 1.0)
@@ -458,7 +478,9 @@ class SourceLattice:
                    float(rad.mechanical_tilt_deg), lam, kind, src, me_u * scale, mm_u * scale,
                    near_t, far_t, far_field_range_m(lam, big), float(rad.reflection_factor),
                    float(rad.power_w), boost, float(linear_to_dbi(boost * g_model_peak)),
-                   ground, layout, fill * scale**2, thin)
+                   ground, layout, fill * scale**2, thin,
+                   None if alt is None else (alt[0] * scale, alt[1] * scale),
+                   deficit * scale**2)
 
     def fields(self, points_enu) -> tuple[np.ndarray, np.ndarray]:
         """``F e |E_rms|^2 / eta0`` and ``F e eta0 |H_rms|^2`` at site-frame points. [W/m^2]"""
@@ -469,8 +491,13 @@ class SourceLattice:
         if self.power_w <= 0:
             z = np.zeros(len(pts))
             return z, z.copy()
-        s_e, s_h = dipole_densities(ant, self.src_m, self.me, self.mm, 2 * np.pi / self.wavelength_m)
+        k = 2 * np.pi / self.wavelength_m
+        s_e, s_h = dipole_densities(ant, self.src_m, self.me, self.mm, k)
         r, phi, theta = antenna_angles(xa, ya, za)
+        if self.alt_moments is not None:  # the other current profile, faded out by R_ff
+            a_e, a_h = dipole_densities(ant, self.src_m, *self.alt_moments, k)
+            w = 1.0 - np.minimum(1.0, (r / self.far_field_range_m) ** 2)
+            s_e, s_h = np.maximum(s_e, w * a_e), np.maximum(s_h, w * a_h)
         with np.errstate(divide="ignore"):
             fill = self.fill_w / (r * r)  # the incoherent fill that gives nulls their depth
         s_e = s_e + fill
@@ -480,7 +507,13 @@ class SourceLattice:
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             fac = np.where(beta >= 1.0, far, near * (far / near) ** beta)
         fac = fac * self.reflection_factor
-        return s_e * fac, s_h * fac
+        out_e, out_h = s_e * fac, s_h * fac
+        if self.deficit_table is not None:
+            with np.errstate(divide="ignore"):
+                add = beta * _lookup(self.deficit_table, phi, theta) / (r * r)
+            add = add * self.reflection_factor
+            out_e, out_h = out_e + add, out_h + add
+        return out_e, out_h
 
     def far_field_gain(self, phi, theta) -> np.ndarray:
         """Power gain of the model's own far field at pattern angles (radians). [1]"""
@@ -491,7 +524,10 @@ class SourceLattice:
         u = far_field_intensity(n, self.src_m, self.me, self.mm, 2 * np.pi / self.wavelength_m)
         u = u + self.fill_w
         far = _lookup(self.far_table, phi.ravel(), theta.ravel())
-        g = 4.0 * np.pi * u * far / self.power_w
+        u = u * far
+        if self.deficit_table is not None:
+            u = u + _lookup(self.deficit_table, phi.ravel(), theta.ravel())
+        g = 4.0 * np.pi * u / self.power_w
         if self.ground_z_m is not None:
             g = np.where(theta.ravel() < 0.0, 0.0, g)
         return g.reshape(phi.shape)
@@ -555,14 +591,14 @@ def _lattice_shape(rad, centre, half, ground) -> tuple:
     if endfire:
         n_dep = int(np.clip(math.ceil(size[0] / (DEPTH_SPACING_WL * lam)), 3, MAX_DEPTH))
         x = centre[0] + (np.arange(n_dep) + 0.5) * size[0] / n_dep - 0.5 * size[0]
-        el = np.deg2rad(np.arange(-90.0, 90.0 + 0.25, 0.5))
+        el = np.deg2rad(np.arange(-90.0, 90.0 + 0.5, 1.0))
         if kind == "e_y":  # H-plane = x-z: front and back vertical cuts
             gf = np.asarray(pattern.gain(np.zeros_like(el), el), dtype=float)
             gb = np.asarray(pattern.gain(np.full_like(el, np.pi), el), dtype=float)
             psi = np.concatenate([np.abs(el), np.pi - np.abs(el)])
             g = np.concatenate([gf, gb])
         else:  # e_z: H-plane = x-y: the horizontal cut
-            phi = np.deg2rad(np.arange(0.0, 360.0, 0.5))
+            phi = np.deg2rad(np.arange(0.0, 360.0, 1.0))
             g = np.asarray(pattern.gain(phi, np.zeros_like(phi)), dtype=float)
             psi = np.arccos(np.clip(np.cos(phi), -1.0, 1.0))
         w_dep = _fit_endfire(x, k, psi, g)
@@ -583,6 +619,13 @@ def _lattice_shape(rad, centre, half, ground) -> tuple:
     me0, mm0 = ELEMENTS[kind]
     me = weights[:, None] * me0[None, :]
     mm = weights[:, None] * mm0[None, :]
+    alt = None
+    if endfire:  # the same far field with the amplitude profile reversed along the boom
+        w_alt = np.abs(w_dep[::-1]) * np.exp(1j * np.angle(w_dep))
+        wa = (w_alt[:, None] * amp[None, :]).reshape(-1)
+        alt = (wa[:, None] * me0[None, :], wa[:, None] * mm0[None, :])
+        how.append("near field the larger of the current decaying towards the front and "
+                   "towards the back (the cut cannot tell them apart)")
     if ground is not None:
         how.append("image in the ground plane")
     # far field of the lattice and the correction towards the pattern
@@ -590,16 +633,23 @@ def _lattice_shape(rad, centre, half, ground) -> tuple:
     dirs = direction_from_angles(phi_g, el_g).reshape(-1, 3)
     u_lat = far_field_intensity(dirs, src, me, mm, k).reshape(phi_g.shape)
     fill = FILL * float(u_lat.max())
-    far_db = correction_db(pattern, u_lat + fill, ground is not None)
-    far_db -= far_db.max()
+    c_db = target_db(pattern, u_lat + fill, ground is not None) - 10.0 * np.log10(u_lat + fill)
+    peak_c = float(c_db.ravel()[np.argmax(u_lat.ravel())])  # the correction on the beam
+    c_db -= peak_c
+    # the lattice's own field is reshaped by at most CORRECTION_CAP_DB above its beam; what the
+    # pattern has beyond that (where the elements have a null the antenna fills) is radiated
+    # as an incoherent far-field term that fades in towards the far-field range
+    far_db = np.minimum(c_db, CORRECTION_CAP_DB)
     far_t = 10.0 ** (far_db / 10.0)
-    near_t = 10.0 ** (_envelope(far_db) / 10.0)
-    p_unit, u_peak = _sphere_integral(src, me, mm, k, far_t, ground is not None, fill)
+    deficit = (u_lat + fill) * (10.0 ** (c_db / 10.0) - far_t)
+    near_t = np.ones_like(far_t)  # close in, the lattice's own physics, unreshaped
+    p_unit, u_peak = _sphere_integral(src, me, mm, k, far_t, ground is not None, fill, deficit)
     g_model_peak = 4.0 * np.pi * u_peak / p_unit
     layout = (f"{kind.replace('_', ' ')} elements ({_KIND_WORDS[kind]}): "
               f"{n_col} along the {'xyz'[axis]} axis" + (f" x {x.size} rows" if endfire else "")
               + "; " + ", ".join(how))
-    return src, me, mm, near_t, far_t, p_unit, g_model_peak, kind, layout, fill, thin_wire
+    return (src, me, mm, near_t, far_t, p_unit, g_model_peak, kind, layout, fill, thin_wire, alt,
+            deficit)
 
 
 _KIND_WORDS = {"e_z": "vertical current", "e_y": "horizontal current",
@@ -620,29 +670,34 @@ def _cut_db(pattern, which: str, angles) -> np.ndarray:
     return _pattern_db(pattern, phi, angles)
 
 
-def correction_db(pattern, u_eff, half_space: bool) -> np.ndarray:
-    """The far-field correction ``c(phi, el)`` [dB] on the 1 deg grid: pattern over lattice.
+def target_db(pattern, u_eff, half_space: bool) -> np.ndarray:
+    """The far field the model radiates, ``G_T(phi, el)`` [dB, arbitrary level], 1 deg grid.
 
-    With a full-sphere table in the pattern file, ``c = G_3d - U`` everywhere. With cuts only,
-    ``c`` is exact on the three cut planes (horizontal cut ``c_h``, front and back vertical
-    cuts ``c_vf``, ``c_vb``) and interpolated between them, so that off the cut planes the
-    lattice's own physics (its elements' polarisation and array factors) shapes the pattern
-    rather than a synthesis rule of the cuts::
+    With a full-sphere table in the pattern file, the table. With cuts only, the lattice's own
+    far field (with its incoherent fill) reshaped by a correction that is exact on the three
+    cut planes (horizontal cut ``c_h``, front and back vertical cuts ``c_vf``, ``c_vb``)
+    and interpolated between them, so that off the cut planes the lattice's physics (its
+    elements' polarisation and array factors) shapes the pattern rather than a synthesis rule
+    of the cuts::
 
         c_v(phi, el) = (1 - w) c_vf(el) + w c_vb(el),   w = sin^2(phi/2)
         c(phi, el)   = c_v(phi, el) + cos^2(el) [c_h(phi) - c_v(phi, 0)]
 
     (our construction, in the spirit of the 3GPP TR 38.901 additive rule applied to the
     correction instead of the gain). Gains are floored 40 dB below the peak. Over a ground
-    plane the lower half mirrors the upper.
+    plane the lower half mirrors the upper. Where the elements have an exact null on a cut
+    plane that the antenna fills (a small loop's axis), the correction is large there and the
+    interpolation carries it off the plane: the target then lies above the antenna's field
+    near that direction (measured: up to +13 dB on the axis of the method-of-moments loop,
+    tests/data/nec; a full-sphere table removes it).
     """
     floor = 40.0
-    lat = 10.0 * np.log10(u_eff)
     sphere = getattr(pattern, "sphere", None)
     if sphere is not None:
         g = _pattern_db(pattern, _AZ[:, None], _EL[None, :])
-        c = np.maximum(g, g.max() - floor) - lat
+        t = np.maximum(g, g.max() - floor)
     else:
+        lat = 10.0 * np.log10(u_eff)
         gh = _cut_db(pattern, "horizontal", _AZ)
         gf = _cut_db(pattern, "front", _EL)
         gb = _cut_db(pattern, "back", _EL)
@@ -654,22 +709,26 @@ def correction_db(pattern, u_eff, half_space: bool) -> np.ndarray:
         w = np.sin(0.5 * _AZ)[:, None] ** 2
         c_v = (1.0 - w) * c_vf[None, :] + w * c_vb[None, :]
         c = c_v + np.cos(_EL)[None, :] ** 2 * (c_h[:, None] - c_v[:, 90:91])
+        t = lat + c
+        t[:, 90] = gh  # exactly the file on its planes
+        t[0, :] = gf
+        t[180, :] = gb
     if half_space:
-        c[:, :90] = c[:, 180:90:-1]
-    return c
+        t[:, :90] = t[:, 180:90:-1]
+    return t
 
 
-def _envelope(c_db: np.ndarray) -> np.ndarray:
-    """Upper envelope over +-ENVELOPE_DEG in azimuth (periodic) and elevation. [dB]"""
-    m = int(round(ENVELOPE_DEG))
+def _envelope(c_db: np.ndarray, half_width_deg: float = ENVELOPE_DEG) -> np.ndarray:
+    """Upper envelope over +-half_width_deg in azimuth (periodic) and elevation. [dB]"""
+    m = int(round(half_width_deg))
     pad = np.pad(c_db, ((m, m), (0, 0)), mode="wrap")
     env = np.lib.stride_tricks.sliding_window_view(pad, 2 * m + 1, axis=0).max(axis=-1)
     pad = np.pad(env, ((0, 0), (m, m)), mode="edge")
     return np.lib.stride_tricks.sliding_window_view(pad, 2 * m + 1, axis=1).max(axis=-1)
 
 
-def _sphere_integral(src, me, mm, k, far_t, half_space: bool, fill: float = 0.0
-                     ) -> tuple[float, float]:
+def _sphere_integral(src, me, mm, k, far_t, half_space: bool, fill: float = 0.0,
+                     deficit=None) -> tuple[float, float]:
     """Radiated power and peak intensity of the corrected far field (unit moments). [W], [W/sr]
 
     Trapezoidal in azimuth (1 deg) and Gauss-Legendre in ``sin(el)``, enough nodes for the
@@ -691,6 +750,8 @@ def _sphere_integral(src, me, mm, k, far_t, half_space: bool, fill: float = 0.0
         dirs = direction_from_angles(pg, eg).reshape(-1, 3)
         inten = far_field_intensity(dirs, src, me, mm, k).reshape(pg.shape) + fill
         inten = inten * _lookup(far_t, pg, eg)
+        if deficit is not None:
+            inten = inten + _lookup(deficit, pg, eg)
         p_tot += float(np.sum(inten * wu[None, :])) * (2.0 * np.pi / phi.size)
         u_max = max(u_max, float(inten.max()))
     return p_tot, u_max

@@ -436,6 +436,37 @@ class LimitSet:
         plane_wave = np.fmin(s_from_e(v["e_v_m"]), s_from_h(v["h_a_m"]))
         return np.where(np.isnan(table_s), plane_wave, table_s)
 
+    def field_density_limits_w_m2(
+        self, frequency_mhz: Any, population: str, region: str = "whole-body"
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """The limits to judge ``S_E = |E|^2/eta0`` and ``S_H = eta0 |H|^2`` against. [W/m²]
+
+        Each field against its own limit: ``S_E`` against ``E_L^2/eta0`` and ``S_H`` against
+        ``eta0 H_L^2`` where the table prints E and H (near a source the two differ and each
+        must be met: 47 CFR 1.1310 Table 1 note on near-field exposure, ICNIRP 2020 sec. 4
+        below 30 MHz, ICNIRP 1998 sec. 4, IEEE C95.1-2019 Table 7; from memory), the printed
+        S_E and S_H where the table gives those (IEEE C95.1-2019), and the table's S for a
+        field the table gives no limit for (a plane-wave density above the frequencies where E
+        and H are printed: there the two densities agree outside the stand-off).
+
+        Returns
+        -------
+        (s_lim_e, s_lim_h) : tuple of numpy.ndarray
+            [W/m²]
+        """
+        v = self.evaluate(frequency_mhz, population, region)
+        s_table = np.where(np.isnan(v["s_w_m2"]), v["s_h_w_m2"], v["s_w_m2"])
+        s_table_h = np.where(np.isnan(v["s_h_w_m2"]), s_table, v["s_h_w_m2"])
+        lim_e = np.where(np.isnan(v["e_v_m"]), s_table, s_from_e(v["e_v_m"]))
+        lim_h = np.where(np.isnan(v["h_a_m"]), s_table_h, s_from_h(v["h_a_m"]))
+        if not np.all(np.isnan(v["s_h_w_m2"])):  # printed S_E and S_H govern where given
+            lim_e = np.where(np.isnan(v["s_h_w_m2"]), lim_e, v["s_w_m2"])
+            lim_h = np.where(np.isnan(v["s_h_w_m2"]), lim_h, v["s_h_w_m2"])
+        # a field the table has no limit for at all: the other field's (plane wave)
+        lim_e = np.where(np.isnan(lim_e), lim_h, lim_e)
+        lim_h = np.where(np.isnan(lim_h), lim_e, lim_h)
+        return lim_e, lim_h
+
     def describe_s(
         self, frequency_mhz: Any, population: str, region: str = "whole-body"
     ) -> np.ndarray:

@@ -50,7 +50,8 @@ def point_dict(p: PointResult) -> dict:
         "access": p.access,
         "assessable": p.assessable,
         "reason": p.reason or None,
-        "antennas": [{"id": k, "power_density_w_m2": _num(v)} for k, v in p.density_w_m2.items()],
+        "antennas": [{"id": k, "power_density_w_m2": _num(v), "e_v_m": _num(p.e_v_m.get(k)),
+                      "h_a_m": _num(p.h_a_m.get(k))} for k, v in p.density_w_m2.items()],
         "exposure": [
             {
                 "limits": e.set_id,
@@ -58,6 +59,7 @@ def point_dict(p: PointResult) -> dict:
                 "exposure_ratio": _num(e.exposure_ratio),
                 "percent_of_limit": _num(None if e.exposure_ratio is None else 100 * e.exposure_ratio),
                 "governing_region": e.governing_region,
+                "governing_field": e.governing_field,
             }
             for e in p.exposure
         ],

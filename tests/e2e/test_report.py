@@ -269,8 +269,8 @@ def test_report_with_maps_writes_maps_and_gis_files_into_a_folder_beside_the_pdf
 
 
 def test_accuracy_statement_agrees_with_the_validation_table():
-    """The copy the report quotes equals tests/data/nec/accuracy.md (written by the
-    method-of-moments validation against PyNEC), row for row."""
+    """The package's copy the report quotes equals tests/data/nec/accuracy.md (both written by
+    the method-of-moments validation, tests/validation/nec_accuracy.py), row for row."""
     from siteexposure.writers import accuracy
 
     md = (ROOT / accuracy.SOURCE).read_text(encoding="utf-8")
@@ -283,13 +283,15 @@ def test_accuracy_statement_agrees_with_the_validation_table():
         return out[1:]
 
     titles = {b.splitlines()[0]: rows(b) for b in blocks}
-    e_key = next(k for k in titles if k.startswith("Reference |E_rms|"))
-    p_key = next(k for k in titles if k.startswith("Reference: magnitude of the time-averaged"))
-    a_key = next(k for k in titles if k.startswith("`auto` per reference case"))
+
+    def block(prefix: str) -> list:
+        return titles[next(k for k in titles if k.startswith(prefix))]
+
     assert list(accuracy.CASES) == rows(blocks[0])
-    assert list(accuracy.E_FIELD) == titles[e_key]
-    assert list(accuracy.POYNTING) == titles[p_key]
-    assert list(accuracy.AUTO_BY_CASE) == titles[a_key]
+    assert list(accuracy.AUTO_BY_CASE) == block("`auto` per reference case (pattern cuts")
+    assert list(accuracy.AUTO_BY_CASE_3D) == block("`auto` per reference case (pattern file")
+    assert list(accuracy.BY_MODEL_REGION) == block("Every model")
+    assert list(accuracy.BOUND_MARGINS) == block("Envelope bound")
 
 
 def _panel_site():
@@ -330,10 +332,18 @@ def test_pdf_quotes_the_validated_accuracy_of_the_model_that_ran(tmp_path):
     assert "not part of the method-of-moments validation" not in text
 
 
-def test_pdf_says_accuracy_not_available_for_the_dish_model(work):
+def test_pdf_quotes_the_validated_accuracy_of_the_dish_model(work):
+    """The dish model is now validated against a uniform circular aperture (direct aperture
+    integral, tests/data/nec/dish_reference.py): the report quotes its rows and its known
+    limit (conservative by design)."""
+    from siteexposure.writers import accuracy
+
     text = flat(" ".join(pages_text(work["pdf"])))
     assert {a["model"]["id"] for a in work["json"]["antennas"]} == {"oet65-aperture"}
-    assert "oet65-aperture: not part of the method-of-moments validation" in text
+    assert "not part of the method-of-moments validation" not in text
+    for row in accuracy.rows_for("oet65-aperture"):
+        assert flat(row[0].split(", ", 1)[1]) in text
+    assert "Conservative by design" in text
 
 
 def test_demo_runs_end_to_end_and_writes_its_files(tmp_path, monkeypatch):
