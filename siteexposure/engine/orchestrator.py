@@ -411,7 +411,8 @@ def evaluate_point(site: Site, at_m, *, name: str = "point", access: str = "publ
     """Exposure exactly at ``at_m`` (east, north, height above site ground), no averaging.
 
     Both populations are evaluated for every limit set of the site; a point inside any
-    antenna's reactive near field is reported as not assessable, never as a pass.
+    antenna's stand-off (lambda/2pi, at most 1 m, from its body) is reported as not
+    assessable, never as a pass.
     """
     if _ctx is None:
         _check_array_preparation(site)

@@ -11,7 +11,7 @@ Values are point values (no spatial averaging: the cut shows the field itself, t
 averaging line of the plan view belongs to people standing on floors), summed over all
 antennas of the site, for every (limit set, population), governing over the set's
 regions like the area grids (:func:`siteexposure.engine.combos.governing`); NaN where a
-source that counts is not assessable (reactive near field).
+source that counts is not assessable (within its stand-off).
 
 For the maps, :func:`cut_extent` sizes a cut from the antenna's keep-out distances and the
 site's floors, and :func:`adaptive_cut` widens it until the general-public boundary of the

@@ -39,7 +39,7 @@ A zone agrees with the area's verdict -- our decision
     Hence a zone of a level exists exactly where a judged point exceeds that level, and
     the worst point of an exceeding area lies inside its zone.
 
-Cells the models cannot assess (NaN; reactive near field) -- our decision
+Cells the models cannot assess (NaN; within an antenna's stand-off) -- our decision
     They are never a pass. The region of the outline not covered by grid quads whose
     corners all carry a number (``contourpy`` filled contour of the whole valid range),
     with the half-cell squares of the outline samples the models cannot assess, is

@@ -308,7 +308,7 @@ class ApertureModel:
 
         return Fields.plane_wave(aperture_power_density(self.rad, points_enu))
 
-    def validated(self, points_ant) -> np.ndarray:
+    def validated(self, points_ant, body_distance_m=None) -> np.ndarray:
         p = np.asarray(points_ant, dtype=float)
         return (p[..., 0] >= 0.0) | (np.einsum("...i,...i->...", p, p)
                                         >= self.far_field_range_m**2)

@@ -860,14 +860,16 @@ class ArrayModel:
         s_e, s_h = self.built.fields(points_enu)
         return Fields(s_e, s_h)
 
-    def validated(self, points_ant) -> np.ndarray:
+    def validated(self, points_ant, body_distance_m=None) -> np.ndarray:
         """Beyond ``lambda/(2 pi)`` from the body; a single thin wire of known current (a
         short dipole, a monopole) from the stand-off on (method-of-moments validation:
-        tests/data/nec, short_dipole and monopole_mf)."""
+        tests/data/nec, short_dipole and monopole_mf). ``body_distance_m``: the points'
+        distances from the body, when the caller has them. [m]"""
         from siteexposure.physics.regions import reactive_zone_m
 
         p = np.asarray(points_ant, dtype=float)
         if getattr(self.built, "thin_wire", False):
             return np.ones(p.shape[:-1], dtype=bool)
         zone = reactive_zone_m(self.rad.wavelength_m) * (1.0 - 1e-9)
-        return self.rad.body.distance_m(p) >= zone
+        d = self.rad.body.distance_m(p) if body_distance_m is None else body_distance_m
+        return np.asarray(d) >= zone

@@ -360,6 +360,6 @@ class CylindricalModel:
 
         return Fields.plane_wave(cylindrical_power_density(self.rad, points_enu))
 
-    def validated(self, points_ant) -> np.ndarray:
+    def validated(self, points_ant, body_distance_m=None) -> np.ndarray:
         p = np.asarray(points_ant, dtype=float)
         return np.einsum("...i,...i->...", p, p) >= self.far_field_range_m**2

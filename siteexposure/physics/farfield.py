@@ -284,6 +284,6 @@ class FarFieldModel:
 
         return Fields.plane_wave(farfield_power_density(self.rad, points_enu))
 
-    def validated(self, points_ant) -> np.ndarray:
+    def validated(self, points_ant, body_distance_m=None) -> np.ndarray:
         p = np.asarray(points_ant, dtype=float)
         return np.einsum("...i,...i->...", p, p) >= self.far_field_range_m**2

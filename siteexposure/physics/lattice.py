@@ -509,7 +509,7 @@ class SourceLattice:
         fac = fac * self.reflection_factor
         out_e, out_h = s_e * fac, s_h * fac
         if self.deficit_table is not None:
-            with np.errstate(divide="ignore"):
+            with np.errstate(divide="ignore", invalid="ignore"):
                 add = beta * _lookup(self.deficit_table, phi, theta) / (r * r)
             add = add * self.reflection_factor
             out_e, out_h = out_e + add, out_h + add

@@ -12,10 +12,9 @@ agreement for that antenna type:
 * no body -> ``far-field-friis``, with a body inferred from the pattern's beamwidths
   (:func:`siteexposure.physics.body.inferred_body`) to place its far-field range.
 
-and, per point, uses that model only where its validation holds
-(``model.validated``); everywhere else, and wherever the model exceeds it, the
-conservative bound of :mod:`siteexposure.physics.bound`, so that an unvalidated point never
-gets less than the bound. A model the user requests by name runs everywhere outside the
+and, per point, uses that model where its validation holds (``model.validated``); everywhere
+else the larger of the model and the conservative bound of :mod:`siteexposure.physics.bound`,
+so that an unvalidated point never gets less than the bound. A model the user requests by name runs everywhere outside the
 stand-off, as requested (the record says so).
 
 Not assessable: only points within the stand-off ``lambda/(2 pi)`` of the antenna's body
@@ -206,8 +205,7 @@ class FieldEstimate:
     assessable : ndarray of bool
         False within the stand-off of the body (or below a monopole's ground plane).
     bounded : ndarray of bool
-        True where the envelope bound gave the value (no validated model there, or the
-        model exceeded the bound).
+        True where no model is validated, so that the value is at least the envelope bound.
     """
 
     fields: Fields
@@ -229,21 +227,22 @@ def field_densities(rad: Radiator, choice: ModelChoice, points_enu: ArrayLike) -
     pts = np.asarray(points_enu, dtype=float).reshape(-1, 3)
     model, bound, body = _prepared(rad, choice)
     ant = to_antenna_frame_points(pts, rad.position_m, rad.azimuth_deg, rad.mechanical_tilt_deg)
-    ok = body_clearance_m(rad, body, ant) >= standoff_distance_m(rad) * (1.0 - 1e-9)
+    clearance = body_clearance_m(rad, body, ant)
+    ok = clearance >= standoff_distance_m(rad) * (1.0 - 1e-9)
     g = ground_z_m(rad)
     if g is not None:
         ok &= ant[:, 2] >= g
     f = model.fields(pts)
-    s_e = np.asarray(f.s_e, dtype=float).reshape(-1)
-    s_h = np.asarray(f.s_h, dtype=float).reshape(-1)
+    s_e = np.array(f.s_e, dtype=float).reshape(-1)
+    s_h = np.array(f.s_h, dtype=float).reshape(-1)
     bounded = np.zeros(len(pts), dtype=bool)
     if bound is not None:
-        b = bound.density(ant)
-        use = ~(np.asarray(model.validated(ant), dtype=bool) & np.isfinite(s_e)
-                & np.isfinite(s_h)) | (np.fmax(s_e, s_h) > b)
-        use &= ok
-        s_e = np.where(use, b, s_e)
-        s_h = np.where(use, b, s_h)
+        valid = model.validated(ant, body_distance_m=clearance if body is rad.body else None)
+        use = ok & ~(np.asarray(valid, dtype=bool) & np.isfinite(s_e) & np.isfinite(s_h))
+        if use.any():
+            b = bound.density(ant[use])
+            s_e[use] = np.fmax(s_e[use], b)  # never less than the bound where unvalidated
+            s_h[use] = np.fmax(s_h[use], b)
         bounded = use
     ok &= np.isfinite(s_e) & np.isfinite(s_h)
     return FieldEstimate(Fields(np.where(ok, s_e, np.nan), np.where(ok, s_h, np.nan)), ok,

@@ -60,7 +60,7 @@ def print_site(res: SiteResult, console) -> None:
             at = "-" if s.at_m is None else f"{s.at_m[0]:.2f}, {s.at_m[1]:.2f}, {s.at_m[2]:.2f}"
             note = s.verdict
             if s.n_not_assessable:
-                note += f" ({s.n_not_assessable} pts in reactive near field)"
+                note += f" ({s.n_not_assessable} pts within an antenna's stand-off)"
             t.add_row(ar.area.name, ar.area.access, s.set_id, s.population, _ratio(s.max_exposure_ratio),
                       _pct(s.max_exposure_ratio), at, f"[{_verdict_style(s.verdict)}]{note}[/]" if _verdict_style(s.verdict) else note)
     console.print(t)
@@ -96,7 +96,7 @@ def print_site(res: SiteResult, console) -> None:
                 if e.population != pop:
                     continue
                 t.add_row(p.name, p.access, e.set_id, e.population, _ratio(e.exposure_ratio), _pct(e.exposure_ratio),
-                          "" if p.assessable else "not assessable: reactive near field")
+                          "" if p.assessable else "not assessable: within an antenna's stand-off")
         console.print(t)
 
     t = Table(title="Top contributors at each area's worst point", title_justify="left")
