@@ -276,39 +276,47 @@ def aperture_power_density(rad: Radiator, points_enu: ArrayLike) -> np.ndarray:
 
 
 class ApertureModel:
-    """Field-model face (:mod:`siteexposure.physics.fieldmodels`) of the OET-65 aperture
-    model, as a plane wave (E and H densities equal).
+    """Field-model face (:mod:`siteexposure.physics.fieldmodels`) of the dish model: a tapered
+    circular aperture whose field is integrated ring by ring
+    (:class:`siteexposure.physics.circular_aperture.CircularAperture`), as a plane wave (E and H
+    densities equal). The OET-65 formulas of this module stay as the conservative cross-check
+    the tests compare it with.
 
     It describes the beam of the dish from its aperture plane outwards; behind the aperture
-    plane (the bowl, its rim and what is behind it) it is validated only in the far field,
-    so ``auto`` bounds it there (:mod:`siteexposure.physics.bound`).
+    plane (the bowl, its rim and what is behind it) it takes the OET-65 off-axis rule and is
+    validated only in the far field, so ``auto`` bounds it there
+    (:mod:`siteexposure.physics.bound`).
     """
 
     word = "aperture"
-    model_id = "oet65-aperture"
+    model_id = "circular-aperture"
 
     def __init__(self, rad: Radiator) -> None:
-        from siteexposure.physics.regions import far_field_range_m
+        from siteexposure.physics.circular_aperture import CircularAperture
 
-        if not rad.diameter_m or rad.diameter_m <= 0:
-            raise InputError(f"antenna aperture diameter_m: {rad.diameter_m!r}; the aperture "
-                             "model needs a positive dish diameter")
         self.rad = rad
-        self.far_field_range_m = max(
-            far_field_range_m(rad.wavelength_m, rad.body.largest_dimension_m),
-            float(far_field_onset_m(rad.diameter_m, rad.wavelength_m)))
-        self.notes: tuple[str, ...] = ()
+        self.dish = CircularAperture(rad)
+        self.far_field_range_m = self.dish.far_field_range_m
+        self.notes = (f"illumination (1 - (r/a)^2)^{self.dish.n:.2f} for the aperture efficiency "
+                      f"{self.dish.efficiency:.2f} its gain implies",)
 
     @classmethod
     def from_radiator(cls, rad: Radiator, cache=None) -> ApertureModel:
         return cls(rad)
 
     def fields(self, points_enu):
+        """The ring integral in front of the aperture plane; behind it (where it says nothing)
+        the OET-65 off-axis rule of :func:`aperture_power_density`. [W/m^2]"""
         from siteexposure.physics.fieldmodels import Fields
 
-        return Fields.plane_wave(aperture_power_density(self.rad, points_enu))
+        s = self.dish.density(points_enu)
+        gap = np.isnan(s)
+        if gap.any():
+            pts = np.asarray(points_enu, dtype=float).reshape(-1, 3)
+            s[gap] = aperture_power_density(self.rad, pts[gap])
+        return Fields.plane_wave(s)
 
     def validated(self, points_ant, body_distance_m=None) -> np.ndarray:
         p = np.asarray(points_ant, dtype=float)
-        return (p[..., 0] >= 0.0) | (np.einsum("...i,...i->...", p, p)
-                                        >= self.far_field_range_m**2)
+        return (p[..., 0] > 0.0) | (np.einsum("...i,...i->...", p, p)
+                                    >= self.far_field_range_m**2)  # NaN from the model: bound

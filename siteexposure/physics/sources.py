@@ -7,7 +7,7 @@ The engine calls :func:`choose_model` once per antenna and :func:`field_densitie
 ``auto`` picks, per antenna, the model whose method-of-moments validation shows the best
 agreement for that antenna type:
 
-* a dish (``diameter_m`` given) -> ``oet65-aperture``;
+* a dish (``diameter_m`` given) -> ``circular-aperture``;
 * any other body (``height_m``, ``width_m`` or ``depth_m`` given) -> ``array-synthesis``;
 * no body -> ``far-field-friis``, with a body inferred from the pattern's beamwidths
   (:func:`siteexposure.physics.body.inferred_body`) to place its far-field range.
@@ -42,7 +42,7 @@ MODEL_IDS = {
     "far-field": "far-field-friis",
     "cylindrical": "oet65-cylindrical",
     "array": "array-synthesis",
-    "aperture": "oet65-aperture",
+    "aperture": "circular-aperture",
 }
 MODEL_WORDS = ("auto", *REGISTRY)
 BOUND_ID = "envelope-bound"
@@ -117,9 +117,9 @@ def choose_model(rad: Radiator, requested: str = "auto", cache: ModelCache | Non
     if word == "auto":
         if dish:
             return ModelChoice("aperture", MODEL_IDS["aperture"],
-                               f"auto: dish of diameter {rad.diameter_m:g} m -> OET-65 aperture "
-                               "model in front of the aperture plane, the envelope bound "
-                               "behind it", True, cache)
+                               f"auto: dish of diameter {rad.diameter_m:g} m -> circular-aperture "
+                               "model (tapered illumination, ring integral) in front of the "
+                               "aperture plane, the envelope bound behind it", True, cache)
         if box:
             b = rad.body
             return ModelChoice("array", MODEL_IDS["array"],

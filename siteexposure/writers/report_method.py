@@ -39,6 +39,16 @@ MODEL_TEXT = {
         "Basis: Balanis, Antenna Theory, 4th ed., Sec. 4.2 (fields of a short dipole) and "
         "Sec. 6.3 (linear arrays)."
     ),
+    "circular-aperture": (
+        "Dish model: the dish as a circular aperture of its diameter, illuminated with the "
+        "taper (1 − (r/a)²)^n whose efficiency equals the aperture efficiency its gain implies; "
+        "the field in front of the aperture plane is the Rayleigh-Sommerfeld integral over the "
+        "aperture ring by ring (near-field plateau, Fresnel oscillation, transition and beam edge "
+        "follow from it), beyond 2D²/λ the far-field formula with the pattern. Behind the "
+        "aperture plane: the OET-65 off-axis rule, and under auto never less than the envelope "
+        "bound. Basis: Goodman, Introduction to Fourier Optics, 3rd ed., ch. 3-4; Balanis, "
+        "Antenna Theory, 4th ed., Sec. 12.10."
+    ),
     "oet65-aperture": (
         "Aperture model for dishes: constant on-axis density 16·η·P/(πD²) out to D²/(4λ), "
         "falling as 1/r through the transition region to 0.6·D²/λ and as 1/r² beyond, with "

@@ -339,9 +339,9 @@ def test_pdf_quotes_the_validated_accuracy_of_the_dish_model(work):
     from siteexposure.writers import accuracy
 
     text = flat(" ".join(pages_text(work["pdf"])))
-    assert {a["model"]["id"] for a in work["json"]["antennas"]} == {"oet65-aperture"}
+    assert {a["model"]["id"] for a in work["json"]["antennas"]} == {"circular-aperture"}
     assert "not part of the method-of-moments validation" not in text
-    for row in accuracy.rows_for("oet65-aperture"):
+    for row in accuracy.rows_for("circular-aperture"):
         assert flat(row[0].split(", ", 1)[1]) in text
     assert "Conservative by design" in text
 

@@ -33,7 +33,7 @@ def _rad(power_w=80.0, azimuth=30.0, tilt=0.0, **kw):
 
 def test_auto_choice_per_antenna_type():
     dish = sources.choose_model(_rad(diameter_m=0.6))
-    assert (dish.word, dish.model_id) == ("aperture", "oet65-aperture") and "0.6 m" in dish.reason
+    assert (dish.word, dish.model_id) == ("aperture", "circular-aperture") and "0.6 m" in dish.reason
     line = sources.choose_model(_rad(aperture_height_m=1.4))
     assert (line.word, line.model_id) == ("array", "array-synthesis") and line.auto
     yagi = sources.choose_model(_rad(aperture_width_m=1.0, aperture_depth_m=0.6,

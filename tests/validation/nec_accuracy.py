@@ -165,21 +165,25 @@ def applicable(case: CaseData, model: str) -> bool:
     return True
 
 
-def predict(case: CaseData, model: str, three_d: bool = False) -> Prediction:
-    """One model's densities at the case's points (the dispatcher's composite for auto)."""
+def predict(case: CaseData, model: str, three_d: bool = False, mask=None) -> Prediction:
+    """One model's densities at the case's points, or at ``mask`` of them (the dispatcher's
+    composite for auto)."""
     from siteexposure.physics.sources import choose_model, field_densities
 
     rad = radiator_for(case, three_d)
     choice = choose_model(rad, model)
-    est = field_densities(rad, choice, case.xyz_m)
+    pts = case.xyz_m if mask is None else case.xyz_m[mask]
+    est = field_densities(rad, choice, pts)
     return Prediction(np.asarray(est.fields.s, dtype=float), est.assessable, est.bounded,
                       choice.model_id)
 
 
-def errors_db(case: CaseData, pred: Prediction) -> np.ndarray:
-    """Model minus reference ``max(S_E, S_H)`` in dB; NaN where refused."""
+def errors_db(case: CaseData, pred: Prediction, mask=None) -> np.ndarray:
+    """Model minus reference ``max(S_E, S_H)`` in dB (at ``mask`` of the points); NaN where
+    refused."""
+    ref = case.s_ref_w_m2 if mask is None else case.s_ref_w_m2[mask]
     with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(pred.assessable, 10.0 * np.log10(pred.s_w_m2 / case.s_ref_w_m2), np.nan)
+        return np.where(pred.assessable, 10.0 * np.log10(pred.s_w_m2 / ref), np.nan)
 
 
 def summary(err: np.ndarray, n_judged: int) -> dict:
@@ -202,10 +206,10 @@ class CaseResult:
 
 def evaluate(name: str, model: str = "auto", three_d: bool = False) -> CaseResult:
     case = load_case(name)
-    pred = predict(case, model, three_d)
     j = case.judged_new
-    return CaseResult(errors_db(case, pred)[j], case.region[j], pred.model_id,
-                      float(np.mean(pred.bounded[j])) if j.any() else 0.0)
+    pred = predict(case, model, three_d, j)
+    return CaseResult(errors_db(case, pred, j), case.region[j], pred.model_id,
+                      float(np.mean(pred.bounded)) if j.any() else 0.0)
 
 
 def criteria(res: CaseResult) -> dict:
