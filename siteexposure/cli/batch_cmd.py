@@ -17,15 +17,23 @@ from siteexposure.cli.app import app
 @app.command("batch")
 def batch(
     site_files: list[Path] = typer.Argument(..., help="Site descriptions (TOML)."),
-    workers: int = typer.Option(0, "--workers", min=0, help="Worker processes (0 = one per CPU)."),
+    workers: int = typer.Option(0, "--workers", min=0, help="Worker processes (0 = one per CPU; at most the CPU count)."),
     dask: str = typer.Option(None, "--dask", help="Dask scheduler address, or 'local'."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object to stdout."),
+    confine: bool = typer.Option(False, "--confine-patterns",
+                                 help="Refuse pattern paths outside each site file's folder."),
 ) -> None:
     """Screen many sites; one summary row per site."""
-    from siteexposure.engine.batch import screen_many
+    from siteexposure.engine.batch import max_workers, screen_many
     from siteexposure.writers.cautions import CAUTIONS, ONE_LINE, STATUS_LINE
 
-    rows = screen_many(site_files, workers=workers or None, dask_address=dask)
+    if workers > max_workers():
+        import sys
+
+        print(f"Warning: --workers {workers} is more than the {max_workers()} CPUs here; "
+              f"using {max_workers()}", file=sys.stderr)
+    rows = screen_many(site_files, workers=workers or None, dask_address=dask,
+                       confine_patterns=confine)
     if as_json:
         from siteexposure.writers.json_out import dumps
 

@@ -17,6 +17,7 @@ from typing import Any
 import typer
 
 from siteexposure.cli.app import app
+from siteexposure.errors import InputError
 
 CAUTION = (
     "Caution: the limits shown are copies of the publications, for screening only; the "
@@ -168,6 +169,9 @@ def limits(
     from siteexposure.readers.limit_tables import available_sets, load_limit_set
 
     chosen = list(dict.fromkeys(set_ids or []))
+    for f in frequencies or []:
+        if not (math.isfinite(f) and f > 0.0):
+            raise InputError(f"option '--freq': {f!r}; expected a positive frequency in MHz")
     for set_id in chosen:
         load_limit_set(set_id)  # unknown id -> LimitsError listing the valid ids
     console = Console(soft_wrap=False)

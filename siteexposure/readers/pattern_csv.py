@@ -462,12 +462,10 @@ def _check_sphere(src: str, rows: SphereRows, cuts: dict, arrays: dict, peak: fl
 
 
 def _read_text(path: Path) -> str:
-    try:
-        data = path.read_bytes()
-    except FileNotFoundError as exc:
-        raise PatternError(f"pattern file '{path}': not found; expected a pattern CSV v1 file") from exc
-    except OSError as exc:
-        raise PatternError(f"pattern file '{path}': cannot be read ({exc.strerror})") from exc
+    from siteexposure.readers.files import MAX_PATTERN_BYTES, read_input_bytes
+
+    data = read_input_bytes(path, "pattern file (pattern CSV v1)", MAX_PATTERN_BYTES,
+                            PatternError)
     if b"\x00" in data:
         line = data[: data.index(b"\x00")].count(b"\n") + 1
         raise _err(str(path), line, "holds NUL bytes (binary data); expected a UTF-8 text file "
@@ -478,7 +476,22 @@ def _read_text(path: Path) -> str:
         line = data[: exc.start].count(b"\n") + 1
         raise _err(str(path), line, f"byte {exc.start} is not UTF-8 text; expected a UTF-8 text "
                                     "file in pattern CSV v1 layout") from exc
+    if not looks_like_pattern_csv(text):
+        # never echo a line of a file that is not a pattern file (it may be anything)
+        raise PatternError(f"pattern file '{path}': does not look like a pattern file (no "
+                           f"'# pattern CSV v1' line and no table header "
+                           f"'{','.join(TABLE_HEADER)}'); its content is not shown")
     return text
+
+
+def looks_like_pattern_csv(text: str) -> bool:
+    """True when ``text`` carries the pattern CSV v1 first line or its table header."""
+    header = ",".join(TABLE_HEADER)
+    for line in text.splitlines():
+        t = line.strip()
+        if t.lower().startswith("# pattern csv") or t.replace(" ", "").lower() == header:
+            return True
+    return False
 
 
 def pattern_from_text(text: str, src: str, *, method: str = DEFAULT_SYNTHESIS_METHOD) -> TablePattern:

@@ -243,15 +243,10 @@ _TOML_POS = re.compile(r"^(?P<msg>.*?)\s*\(at line (?P<line>\d+), column (?P<col
 
 
 def _read_bytes(path: Path, what: str) -> bytes:
-    try:
-        if not path.exists():
-            raise InputError(f"{path}: {what} not found")
-        if path.is_dir():
-            raise InputError(f"{path}: is a folder; expected a {what}")
-        return path.read_bytes()
-    except OSError as exc:  # e.g. a name too long, a FIFO that cannot be opened
-        name = str(path) if len(str(path)) <= 100 else str(path)[:97] + "..."
-        raise InputError(f"{name}: {what} cannot be read ({exc.strerror or exc})") from None
+    from siteexposure.readers.files import MAX_PATTERN_BYTES, MAX_SITE_BYTES, read_input_bytes
+
+    limit = MAX_SITE_BYTES if what == "site file" else MAX_PATTERN_BYTES
+    return read_input_bytes(path, what, limit)
 
 
 def _parse_toml(data: bytes, file: str) -> dict[str, Any]:
@@ -268,6 +263,9 @@ def _parse_toml(data: bytes, file: str) -> dict[str, Any]:
     text = text.removeprefix("\ufeff")
     try:
         return tomllib.loads(text)
+    except RecursionError:
+        raise InputError(f"{file}: tables or arrays nested too deeply to read; expected a site "
+                         "file of the documented layout (a few levels)") from None
     except tomllib.TOMLDecodeError as exc:
         msg = str(exc)
         found = _TOML_POS.match(msg)
@@ -309,8 +307,10 @@ def _find_non_finite(value: Any, loc: tuple[Any, ...]) -> tuple[tuple[Any, ...],
 class _Builder:
     """Pass 3 over a validated :class:`SiteFile`."""
 
-    def __init__(self, path: Path, raw: Mapping[str, Any], doc: SiteFile) -> None:
+    def __init__(self, path: Path, raw: Mapping[str, Any], doc: SiteFile,
+                 confine_patterns: bool = False) -> None:
         self.path = path
+        self.confine_patterns = confine_patterns
         self.file = str(path)
         self.folder = path.parent
         self.raw = raw
@@ -568,14 +568,25 @@ class _Builder:
             raise _fail(self.file, f"{where} > pattern", spec, "expected a pattern file path "
                         "in quotes or an inline table { model = ..., ... }")
         path = self.folder / spec
+        if self.confine_patterns:
+            try:
+                inside = path.resolve().is_relative_to(self.folder.resolve())
+            except (OSError, RuntimeError):  # a symlink loop
+                inside = False
+            if not inside:
+                raise _fail(self.file, f"{where} > pattern", spec,
+                            "is outside the site file's folder, and pattern paths are confined "
+                            "to it (--confine-patterns); expected a path inside that folder")
         try:
-            found = "a folder" if path.is_dir() else ("a file" if path.is_file() else "")
+            found = ("a folder" if path.is_dir() else "a file" if path.is_file()
+                     else "not a regular file (a device or pipe)" if path.exists() else "")
         except OSError as exc:  # e.g. a name too long for the file system
             raise _fail(self.file, f"{where} > pattern", spec,
                         f"cannot be used as a file name ({exc.strerror or exc}); expected the "
                         "path of a pattern CSV v1 file") from None
         if found != "a file":
-            what = f"{path} is a folder" if found else f"pattern file not found at {path}"
+            what = (f"{path} is {found}" if found
+                    else f"pattern file not found at {path}")
             raise _fail(self.file, f"{where} > pattern", spec,
                         f"{what}; expected a pattern CSV v1 file "
                         "(relative paths start at the site file's folder)")
@@ -688,7 +699,7 @@ def _frequency_range(table: Any, population: str) -> tuple[float, float]:
 # --------------------------------------------------------------------------------------
 
 
-def read_site(path: Path | str) -> Site:
+def read_site(path: Path | str, *, confine_patterns: bool = False) -> Site:
     """Read and validate a site file.
 
     Parameters
@@ -696,6 +707,9 @@ def read_site(path: Path | str) -> Site:
     path : path-like
         The TOML site file (SPEC 3.1). Pattern file paths inside it are relative to
         its folder.
+    confine_patterns : bool
+        Refuse pattern paths that lead outside the site file's folder (for batch runs of
+        files from elsewhere).
 
     Returns
     -------
@@ -728,5 +742,5 @@ def read_site(path: Path | str) -> Site:
         doc = SiteFile.model_validate(raw)
     except ValidationError as exc:
         raise InputError(_format_validation_error(exc, file, raw)) from None
-    return _Builder(path, raw, doc).build(data)
+    return _Builder(path, raw, doc, confine_patterns).build(data)
 
