@@ -305,8 +305,9 @@ class ApertureModel:
         return cls(rad)
 
     def fields(self, points_enu):
-        """The ring integral in front of the aperture plane; behind it (where it says nothing)
-        the OET-65 off-axis rule of :func:`aperture_power_density`. [W/m^2]"""
+        """The ring integral in front of the aperture plane about the beam; elsewhere in the
+        near field (where it says nothing) the OET-65 off-axis rule of
+        :func:`aperture_power_density`. [W/m^2]"""
         from siteexposure.physics.fieldmodels import Fields
 
         s = self.dish.density(points_enu)
@@ -318,5 +319,5 @@ class ApertureModel:
 
     def validated(self, points_ant, body_distance_m=None) -> np.ndarray:
         p = np.asarray(points_ant, dtype=float)
-        return (p[..., 0] > 0.0) | (np.einsum("...i,...i->...", p, p)
-                                    >= self.far_field_range_m**2)  # NaN from the model: bound
+        return (self.dish.computed(p[..., 0], np.hypot(p[..., 1], p[..., 2]))
+                | (np.einsum("...i,...i->...", p, p) >= self.far_field_range_m**2))

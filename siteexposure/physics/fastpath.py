@@ -423,15 +423,17 @@ class _CutTables:
     hi_dbi: float
 
 
-_TABLES: dict = {}  # id(pattern) -> (pattern, _CutTables | None); holds the pattern
-_TABLES_SIZE = 256
+def _pattern_tables(pattern, cache=None) -> _CutTables | None:
+    """The regular-grid tables of a pattern file, or None if the kernel cannot take it;
+    memoised in ``cache`` (the engine's :class:`~siteexposure.physics.cache.ModelCache`) when
+    given, nothing kept otherwise."""
+    if cache is None:
+        return _build_tables(pattern)
+    return cache.get("far-field cut tables", id(pattern), lambda: _build_tables(pattern),
+                     hold=(pattern,))
 
 
-def _pattern_tables(pattern) -> _CutTables | None:
-    """The regular-grid tables of a pattern file, or None if the kernel cannot take it."""
-    hit = _TABLES.get(id(pattern))
-    if hit is not None and hit[0] is pattern:
-        return hit[1]
+def _build_tables(pattern) -> _CutTables | None:
     from siteexposure.physics.synthesis import TablePattern
 
     tables = None
@@ -456,18 +458,15 @@ def _pattern_tables(pattern) -> _CutTables | None:
                 hi = h.max() + max(0.0, (vf - f0).max(), (vb - b0).max())
             tables = _CutTables(_METHOD_CODES[pattern.method], nh, h, nv, vf, vb, f0, b0,
                                 float(pattern.min_gain_dbi), float(lo), float(hi))
-    if len(_TABLES) >= _TABLES_SIZE:
-        _TABLES.pop(next(iter(_TABLES)))
-    _TABLES[id(pattern)] = (pattern, tables)
     return tables
 
 
-def fast_eligible(rad) -> bool:
+def fast_eligible(rad, cache=None) -> bool:
     """True when the kernel can evaluate ``rad``: its pattern is a pattern file
     (:class:`~siteexposure.physics.synthesis.TablePattern`) without a full-sphere table, with
     a known synthesis method, whose cuts are sampled on regular grids of at most
     :data:`MAX_CELLS` cells."""
-    return _pattern_tables(getattr(rad, "pattern", None)) is not None
+    return _pattern_tables(getattr(rad, "pattern", None), cache) is not None
 
 
 def _r2_threshold(radius: float) -> float:
@@ -516,7 +515,7 @@ class FarFieldPlan:
         return len(self.radiators)
 
 
-def prepare_far_field(radiators: Sequence) -> FarFieldPlan:
+def prepare_far_field(radiators: Sequence, cache=None) -> FarFieldPlan:
     """The kernel's :class:`FarFieldPlan` for ``radiators`` (in the order of the weight
     columns); raises :class:`~siteexposure.errors.PatternError` naming the first radiator
     whose pattern the kernel cannot take (see :func:`fast_eligible`)."""
@@ -527,7 +526,7 @@ def prepare_far_field(radiators: Sequence) -> FarFieldPlan:
     rads = tuple(radiators)
     tabs = []
     for i, rad in enumerate(rads):
-        tab = _pattern_tables(getattr(rad, "pattern", None))
+        tab = _pattern_tables(getattr(rad, "pattern", None), cache)
         if tab is None:
             pat = getattr(rad, "pattern", None)
             raise PatternError(
@@ -703,20 +702,18 @@ def _run_kernel(plan: FarFieldPlan, pts, w, group: int, is_max, lines: bool = Fa
     return out
 
 
-_PLANS: dict = {}  # id tuple -> (radiators, plan); the radiators are held so ids stay unique
-_PLANS_SIZE = 8
+def _cached_plan(rads: tuple, cache=None) -> FarFieldPlan:
+    """The plan of ``rads``, memoised in ``cache`` (the engine's ModelCache) when given."""
+    if cache is None:
+        return prepare_far_field(rads)
+    return cache.get("far-field plan", tuple(id(r) for r in rads),
+                     lambda: prepare_far_field(rads, cache), hold=rads)
 
 
-def _cached_plan(rads: tuple) -> FarFieldPlan:
-    key = tuple(id(r) for r in rads)
-    hit = _PLANS.get(key)
-    if hit is not None and all(a is b for a, b in zip(hit[0], rads, strict=True)):
-        return hit[1]
-    plan = prepare_far_field(rads)
-    if len(_PLANS) >= _PLANS_SIZE:
-        _PLANS.pop(next(iter(_PLANS)))
-    _PLANS[key] = (rads, plan)
-    return plan
+def _engine_cache(srcs):
+    """The engine's ModelCache the sources' model choices carry (None without one)."""
+    return next((c for c in (getattr(getattr(s, "choice", None), "cache", None) for s in srcs)
+                 if c is not None), None)
 
 
 def kernel_source(src) -> bool:
@@ -725,7 +722,7 @@ def kernel_source(src) -> bool:
     pattern-file pattern (:func:`fast_eligible`)."""
     choice = getattr(src, "choice", None)
     return (getattr(choice, "word", None) == "far-field" and not getattr(choice, "auto", False)
-            and fast_eligible(src.radiator))
+            and fast_eligible(src.radiator, getattr(choice, "cache", None)))
 
 
 def ratio_sums(sources: Sequence, points_enu, weights, h_rows=None) -> np.ndarray:
@@ -757,7 +754,7 @@ def ratio_sums(sources: Sequence, points_enu, weights, h_rows=None) -> np.ndarra
     rest = [i for i in range(len(srcs)) if i not in set(fast)]
     out = np.zeros((w.shape[0], pts.shape[0]))
     if fast:
-        plan = _cached_plan(tuple(srcs[i].radiator for i in fast))
+        plan = _cached_plan(tuple(srcs[i].radiator for i in fast), _engine_cache(srcs))
         out = far_field_ratio_sums(plan, pts, w[:, fast])
     if rest:
         from siteexposure.physics.sources import field_densities
@@ -816,7 +813,7 @@ def reduced_ratio_sums(sources: Sequence, points_enu, weights, group: int, is_ma
     if fast and srcs and fast_available():
         en = pts[:, :2].reshape(-1, group, 2)
         lines = bool(np.all(en == en[:, :1, :]))  # vertical lines: one east/north per group
-        return _run_kernel(_cached_plan(tuple(s.radiator for s in srcs)), pts, w, group, flags,
-                           lines)
+        return _run_kernel(_cached_plan(tuple(s.radiator for s in srcs), _engine_cache(srcs)),
+                           pts, w, group, flags, lines)
     r = ratio_sums(srcs, pts, w, h_rows).reshape(w.shape[0], -1, group)
     return np.where(flags[:, None], r.max(axis=2), r.mean(axis=2))

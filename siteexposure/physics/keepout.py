@@ -148,11 +148,20 @@ class KeepOutSearch:
         return dirs, spacing
 
     def _density(self, points_enu) -> np.ndarray:
-        """E- and H-field densities, stacked on a last axis of 2. [W/m^2]"""
-        from siteexposure.physics.sources import field_densities
+        """E- and H-field densities, stacked on a last axis of 2; zero within the stand-off of
+        the body, which :meth:`_enclose` holds whatever the field (so that no ray is refined
+        for it). [W/m^2]"""
+        from siteexposure.physics.sources import body_clearance_m, field_densities
 
-        est = field_densities(self.rad, self.choice, points_enu)
-        return np.stack([est.fields.s_e, est.fields.s_h], axis=-1)
+        pts = np.asarray(points_enu, dtype=float).reshape(-1, 3)
+        ant = to_antenna_frame_points(pts, self.rad.position_m, self.rad.azimuth_deg,
+                                      self.rad.mechanical_tilt_deg)
+        inside = body_clearance_m(self.rad, self.body, ant) < self.standoff * (1.0 - 1e-9)
+        out = np.zeros((len(pts), 2))
+        if (~inside).any():
+            est = field_densities(self.rad, self.choice, pts[~inside])
+            out[~inside] = np.stack([est.fields.s_e, est.fields.s_h], axis=-1)
+        return out
 
     @staticmethod
     def _ratio(s2: np.ndarray, lim_e: float, lim_h: float) -> np.ndarray:

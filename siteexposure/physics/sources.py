@@ -232,9 +232,12 @@ def field_densities(rad: Radiator, choice: ModelChoice, points_enu: ArrayLike) -
     g = ground_z_m(rad)
     if g is not None:
         ok &= ant[:, 2] >= g
-    f = model.fields(pts)
-    s_e = np.array(f.s_e, dtype=float).reshape(-1)
-    s_h = np.array(f.s_h, dtype=float).reshape(-1)
+    s_e = np.full(len(pts), np.nan)
+    s_h = np.full(len(pts), np.nan)
+    if ok.any():  # the model only where it is asked (within the stand-off nothing is)
+        f = model.fields(pts if ok.all() else pts[ok])
+        s_e[ok] = np.asarray(f.s_e, dtype=float).reshape(-1)
+        s_h[ok] = np.asarray(f.s_h, dtype=float).reshape(-1)
     bounded = np.zeros(len(pts), dtype=bool)
     if bound is not None:
         valid = model.validated(ant, body_distance_m=clearance if body is rad.body else None)

@@ -41,15 +41,18 @@ KNOWN_LIMITS = {
         "the half-wave, short and collinear dipoles, the monopole over ground and (with the "
         "pattern's full-sphere table) the small loop; beside and behind panels within a "
         "wavelength of the reflector, close to log-periodic arrays and crossed-dipole FM bays "
-        "the model errs by several dB either way (lowest -10 dB close to the crossed FM "
+        "the model errs by several dB either way (lowest -11 dB close to the crossed FM "
         "elements). The far field of electrically tilted panels off the cut planes follows the "
         "cuts' synthesis, not the antenna (-0.7..+2.2 dB for the 6 deg reference panel); a "
         "full-sphere table in the pattern file removes most of it."
     ),
     "circular-aperture": (
-        "Within about 2 cm of the rim, a few millimetres in front of the aperture plane, it "
-        "can be up to 18 dB low (the edge wave is not resolved there); elsewhere within "
-        "-2.7 .. +2.6 dB of the uniform reference aperture."
+        "Just outside the rim, within about a centimetre of the aperture plane, it can be up "
+        "to 8 dB low (the scalar aperture field leaves out the rim's vector fringe field); "
+        "elsewhere in front of the dish within -3.5 .. +4 dB of the uniform reference "
+        "aperture, its far field -0.2 .. +2.6 dB. Off the beam in the near field beyond two "
+        "diameters of the axis, where the integral would be costly, the OET-65 off-axis rule "
+        "and the envelope bound apply: conservative by design, by tens of dB."
     ),
 }
 

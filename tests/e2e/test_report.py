@@ -343,7 +343,8 @@ def test_pdf_quotes_the_validated_accuracy_of_the_dish_model(work):
     assert "not part of the method-of-moments validation" not in text
     for row in accuracy.rows_for("circular-aperture"):
         assert flat(row[0].split(", ", 1)[1]) in text
-    assert "Conservative by design" in text
+    assert "conservative by design" in text
+    assert flat(accuracy.KNOWN_LIMITS["circular-aperture"]) in text
 
 
 def test_demo_runs_end_to_end_and_writes_its_files(tmp_path, monkeypatch):
