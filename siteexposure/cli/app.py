@@ -3,7 +3,7 @@
 Every error is caught here, in one place, and printed as a single ``Error: ...`` line on
 stderr: exit status 2 for the input or the command line, 74 for a file the system could not
 write or read, 70 for an unexpected internal error (never 1, which means "limit exceeded"),
-130 when interrupted; a traceback is shown only with ``--debug``.
+130 when interrupted, 143 when terminated; a traceback is shown only with ``--debug``.
 """
 
 from __future__ import annotations
@@ -64,6 +64,7 @@ def _one_line_warnings() -> None:
 EXIT_IO = 74
 EXIT_INTERNAL = 70
 EXIT_INTERRUPTED = 130
+EXIT_TERMINATED = 143
 #: longest message printed (a 100 k-character key must not give a 100 k-character line)
 MAX_MESSAGE = 600
 
@@ -101,17 +102,47 @@ def main(argv: list[str] | None = None) -> None:
     _one_line_warnings()
     args = sys.argv[1:] if argv is None else list(argv)
     _DEBUG["on"] = "--debug" in args
+    _terminate_cleanly()
     status = _run(args)
     sys.exit(status)
 
 
+class _Terminated(SystemExit):
+    """SIGTERM, raised in the main thread so that temporary folders and partial outputs are
+    removed on the way out (context managers run), exit 143 (128 + SIGTERM)."""
+
+
+def _terminate_cleanly() -> None:
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        return
+
+    def handler(signum, frame):
+        raise _Terminated(EXIT_TERMINATED)
+
+    try:
+        signal.signal(signal.SIGTERM, handler)
+    except (ValueError, OSError):  # not allowed here (embedded interpreters)
+        pass
+
+
 def _run(args: list[str]) -> int:
     from typer._click import exceptions as cx
+    from typer.exceptions import Abort
 
     try:
         rv = app(args=args, prog_name="siteexposure", standalone_mode=False)
+        if rv == EXIT_INTERRUPTED:  # typer's own handling of Ctrl-C
+            _say("interrupted; no output was written unless its path was printed")
+            return rv
         _flush_stdout()
         return rv if isinstance(rv, int) else 0
+    except _Terminated:
+        _say("terminated (SIGTERM); temporary files removed, no output was written unless its "
+             "path was printed")
+        return EXIT_TERMINATED
     except SystemExit as exc:  # a command's own status
         code = exc.code
         return code if isinstance(code, int) else (0 if code is None else 2)
@@ -127,7 +158,7 @@ def _run(args: list[str]) -> int:
     except cx.ClickException as exc:
         _say(exc.format_message())
         return 2
-    except (KeyboardInterrupt, cx.Abort):
+    except (KeyboardInterrupt, Abort):
         _say("interrupted; no output was written unless its path was printed")
         return EXIT_INTERRUPTED
     except RecursionError:

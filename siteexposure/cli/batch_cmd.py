@@ -42,19 +42,21 @@ def batch(
         from rich.console import Console
         from rich.table import Table
 
+        from siteexposure.writers.summary import term
+
         t = Table(title="Batch screening")
         for col in ("site file", "site", "worst area", "max ratio", "verdict"):
             t.add_column(col)
         for r in rows:
             if r["error"]:
-                t.add_row(r["path"], "-", "-", "-", f"input error: {r['error']}")
+                t.add_row(term(r["path"]), "-", "-", "-", term(f"input error: {r['error']}"))
                 continue
             worst = max(r["areas"], key=lambda a: a["max_exposure_ratio"] or 0.0, default=None)
-            t.add_row(r["path"], r["site"], worst["name"] if worst else "-",
+            t.add_row(term(r["path"]), term(r["site"]), term(worst["name"]) if worst else "-",
                       f"{worst['max_exposure_ratio']:.3g}" if worst and worst["max_exposure_ratio"] is not None else "-",
                       "exceeds where reachable" if r["exceeded_where_reachable"] else "complies")
-        Console().print(t)
-        Console().print(ONE_LINE)
+        Console(markup=False).print(t)
+        Console(markup=False).print(ONE_LINE)
     if any(r["error"] for r in rows):
         raise typer.Exit(2)
     if any(r["exceeded_where_reachable"] for r in rows):

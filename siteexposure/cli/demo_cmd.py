@@ -44,7 +44,7 @@ def demo(
     print_site(res, console)
     written = build_report(res, out / DEMO_REPORT, maps_dir=out, progress=not no_progress)
     console.print()
-    console.print(f"[bold]Demo files in {out.resolve()}[/bold]", soft_wrap=True)
+    console.print(f"Demo files in {out.resolve()}", soft_wrap=True, style="bold", markup=False)
     maps = [p for p in written if p.suffix.lower() in (".png", ".svg")]
     for p in written:
         if p not in maps:

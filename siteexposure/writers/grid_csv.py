@@ -37,6 +37,14 @@ def _ratio(v: float) -> str:
     return "" if not math.isfinite(v) else f"{v:.6g}"
 
 
+def csv_text(text: str) -> str:
+    """A name as a CSV cell that no spreadsheet takes for a formula: one starting with ``=``,
+    ``+``, ``-``, ``@``, tab or carriage return gets a leading apostrophe (the OWASP rule
+    against CSV injection)."""
+    text = str(text)
+    return "'" + text if text[:1] in ("=", "+", "-", "@", "\t", "\r") else text
+
+
 def write_grid_csv(result: SiteResult, path: Path | str) -> Path:
     """Write the grid CSV of ``result`` to ``path`` atomically and return the path."""
     from siteexposure.atomic import write_text
@@ -55,7 +63,7 @@ def write_grid_csv(result: SiteResult, path: Path | str) -> Path:
         en = judged[0][0]
         floor = f"{float(ar.area.floor_m):.3f}"
         for n in range(len(en)):
-            w.writerow([f"{en[n, 0]:.3f}", f"{en[n, 1]:.3f}", floor, ar.area.name,
+            w.writerow([f"{en[n, 0]:.3f}", f"{en[n, 1]:.3f}", floor, csv_text(ar.area.name),
                         "cell" if n < n_cells else "outline",
                         *(_ratio(float(values[n])) for _, values in judged)])
     return write_text(path, buf.getvalue())

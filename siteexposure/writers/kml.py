@@ -25,10 +25,20 @@ KML_NS = "http://www.opengis.net/kml/2.2"
 DECIMALS = 7
 
 
+def xml_text(text: str) -> str:
+    """``text`` with the characters XML 1.0 cannot hold (controls other than tab, newline and
+    carriage return; U+FFFE, U+FFFF; lone surrogates) written as ``\\uXXXX``."""
+    def ok(c: str) -> bool:
+        o = ord(c)
+        return (o in (0x9, 0xA, 0xD) or 0x20 <= o <= 0xD7FF or 0xE000 <= o <= 0xFFFD
+                or 0x10000 <= o <= 0x10FFFF)
+    return "".join(c if ok(c) else f"\\u{ord(c):04x}" for c in str(text))
+
+
 def _sub(parent, tag: str, text: str | None = None, **attrib):
-    el = ET.SubElement(parent, tag, attrib)
+    el = ET.SubElement(parent, tag, {k: xml_text(v) for k, v in attrib.items()})
     if text is not None:
-        el.text = text
+        el.text = xml_text(text)
     return el
 
 

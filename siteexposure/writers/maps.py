@@ -52,9 +52,20 @@ def azimuth_unit(azimuth_deg: float) -> tuple[float, float]:
     return math.sin(a), math.cos(a)
 
 
+#: longest name part of a map file name (file systems allow 255 bytes a name) [characters]
+MAX_SLUG = 60
+
+
 def _slug(text: str) -> str:
-    s = re.sub(r"[^a-z0-9]+", "-", str(text).lower()).strip("-")
-    return s or "x"
+    """Lower-case letters, digits and '-' of ``text``; a long one cut to :data:`MAX_SLUG`
+    characters with a short hash of the whole, so that two long names stay apart."""
+    s = re.sub(r"[^a-z0-9]+", "-", str(text).lower()).strip("-") or "x"
+    if len(s) > MAX_SLUG:
+        import hashlib
+
+        tag = hashlib.sha256(str(text).encode("utf-8", "surrogatepass")).hexdigest()[:8]
+        s = f"{s[: MAX_SLUG - 9].rstrip('-')}-{tag}"
+    return s
 
 
 def map_file_stem(kind: str, index: int, name: str, set_id: str) -> str:
@@ -717,7 +728,19 @@ def _save(fig, path: Path, fmt: str) -> Path:
     return path
 
 
-def render_maps(
+def render_maps(result: SiteResult, zones: list, out_dir: Path | str,
+                formats: Sequence[str] = ("png", "svg"), *,
+                progress: Callable[[int, int, str], None] | None = None) -> list[Path]:
+    """Write the plan of every evaluated area and the elevation cut of every antenna (see
+    :func:`_render_maps`); names from the site file are drawn as given, never as maths text
+    (a ``$`` in a name is a dollar sign)."""
+    import matplotlib
+
+    with matplotlib.rc_context({"text.parse_math": False}):
+        return _render_maps(result, zones, out_dir, formats, progress=progress)
+
+
+def _render_maps(
     result: SiteResult,
     zones: list,
     out_dir: Path | str,
