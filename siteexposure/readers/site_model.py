@@ -34,6 +34,8 @@ MAX_TX_POWER_W = 1.0e7
 APERTURE_RANGE_M = (1.0e-3, 100.0)
 
 Coordinate = Annotated[float, Field(ge=-MAX_REACH_M, le=MAX_REACH_M)]
+#: longest name, id or operator accepted (a report line holds about 100 characters) [1]
+MAX_NAME = 200
 Pair = Annotated[list[float], Field(min_length=2, max_length=2)]
 EastNorth = Annotated[list[Coordinate], Field(min_length=2, max_length=2)]
 Triple = Annotated[list[Coordinate], Field(min_length=3, max_length=3)]
@@ -98,7 +100,7 @@ class AveragingTable(_Table):
 
 class SiteTable(_Table):
     model_config = ConfigDict(title="[site]")
-    name: str = Field(min_length=1, description="Site name for reports.")
+    name: str = Field(min_length=1, max_length=MAX_NAME, description="Site name for reports.")
     origin: OriginTable = Field(
         description="WGS84 origin of the local east/north frame, e.g. { lat = 44.98, lon = -93.27 }."
     )
@@ -132,7 +134,7 @@ class AreaTable(_Table):
         title="[[area]]",
         json_schema_extra={"oneOf": [{"required": ["outline"]}, {"required": ["outline_lonlat"]}]}
     )
-    name: str = Field(min_length=1, description="Area name, unique in the file.")
+    name: str = Field(min_length=1, max_length=MAX_NAME, description="Area name, unique in the file.")
     access: Access = Field(description="Who can stand here: public | worker | none.")
     floor_m: Coordinate = Field(description="Standing surface height above site ground. [m]")
     outline: list[EastNorth] | None = Field(
@@ -145,7 +147,7 @@ class AreaTable(_Table):
 
 class PointTable(_Table):
     model_config = ConfigDict(title="[[point]]")
-    name: str = Field(min_length=1, description="Receptor name, unique in the file.")
+    name: str = Field(min_length=1, max_length=MAX_NAME, description="Receptor name, unique in the file.")
     at: Triple = Field(description="[east, north, height above site ground]. [m]")
     access: Access = Field("public", description="Who can be here: public | worker | none.")
 
@@ -182,8 +184,8 @@ class AntennaTable(_Table):
         title="[[antenna]]",
         json_schema_extra={"oneOf": [{"required": ["tx_power_w"]}, {"required": ["tx_power_dbm"]}]}
     )
-    id: str = Field(min_length=1, description="Antenna id, unique in the file.")
-    operator: str = Field(min_length=1, description="Tenant, for apportioning contributions.")
+    id: str = Field(min_length=1, max_length=MAX_NAME, description="Antenna id, unique in the file.")
+    operator: str = Field(min_length=1, max_length=MAX_NAME, description="Tenant, for apportioning contributions.")
     position: Triple = Field(
         description="[east, north, height] of the radiation centre above site ground. [m]"
     )

@@ -195,6 +195,8 @@ def _expected(err: Mapping[str, Any]) -> str:
     if kind == "too_long":
         n = int(ctx["max_length"])
         return f"at most {n} item{'s' if n > 1 else ''}"
+    if kind == "string_too_long":
+        return f"a text of at most {int(ctx['max_length'])} characters"
     return str(err["msg"]).removeprefix("Input should be ").removeprefix("Value error, ")
 
 

@@ -214,3 +214,10 @@ def test_sigterm_leaves_no_temporary_folder_and_exits_143(tmp_path):
     assert "terminated" in err and "Traceback" not in err
     assert not any(tmp.iterdir()), list(tmp.iterdir())
     assert not (tmp_path / "r.pdf").exists()
+
+
+def test_a_30000_character_name_is_one_line_exit_2(tmp_path):
+    doc = sitegen.base_site()
+    doc["site"]["name"] = "N" * 30_000
+    line = _one_line(sitegen.run_cli(["screen", sitegen.write_site(tmp_path, doc)]), 2)
+    assert "at most 200 characters" in line and len(line) < 1_000
