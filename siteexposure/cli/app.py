@@ -102,6 +102,14 @@ def main(argv: list[str] | None = None) -> None:
     _one_line_warnings()
     args = sys.argv[1:] if argv is None else list(argv)
     _DEBUG["on"] = "--debug" in args
+    if sys.stdout is None:  # started with its standard output closed: the result would be lost
+        _say("standard output is closed; nothing could be written (run with a stdout)")
+        sys.exit(EXIT_IO)
+    for stream in (sys.stdout, sys.stderr):  # a name the terminal's encoding cannot show
+        try:
+            stream.reconfigure(errors="backslashreplace")
+        except (AttributeError, ValueError, OSError):
+            pass
     _terminate_cleanly()
     status = _run(args)
     sys.exit(status)

@@ -272,9 +272,16 @@ def _parse_toml(data: bytes, file: str) -> dict[str, Any]:
         msg = str(exc)
         found = _TOML_POS.match(msg)
         if found:
+            detail = found["msg"]
+            if "overwrite" in detail or "declare" in detail:  # a key or table given twice
+                lines = text.splitlines()
+                n = int(found["line"])
+                src = lines[n - 1].strip() if 0 < n <= len(lines) else ""
+                key = src.strip("[] ").split("=")[0].strip()[:80]
+                if key:
+                    detail += f": '{key}' is given twice; expected each key once per table"
             raise InputError(
-                f"{file}: line {found['line']}, column {found['col']}: invalid TOML: "
-                f"{found['msg']}"
+                f"{file}: line {found['line']}, column {found['col']}: invalid TOML: {detail}"
             ) from exc
         if msg.endswith("(at end of document)"):  # e.g. a file cut short
             last = len(text.splitlines()) or 1

@@ -196,6 +196,13 @@ def site_dict(res: SiteResult) -> dict:
     }
 
 
-def dumps(obj: dict) -> str:
-    """Serialise with stable key order and 2-space indentation."""
-    return json.dumps(obj, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+def dumps(obj: dict, ascii_only: bool | None = None) -> str:
+    """Serialise with stable key order and 2-space indentation; non-ASCII characters as
+    ``\\u`` escapes when ``ascii_only`` (by default: when standard output is not UTF-8, so
+    that a name stays valid JSON on any terminal or pipe)."""
+    if ascii_only is None:
+        import sys
+
+        enc = (getattr(sys.stdout, "encoding", None) or "utf-8").lower().replace("-", "")
+        ascii_only = enc not in ("utf8", "utf8sig")
+    return json.dumps(obj, indent=2, ensure_ascii=ascii_only, allow_nan=False) + "\n"

@@ -221,3 +221,35 @@ def test_a_30000_character_name_is_one_line_exit_2(tmp_path):
     doc["site"]["name"] = "N" * 30_000
     line = _one_line(sitegen.run_cli(["screen", sitegen.write_site(tmp_path, doc)]), 2)
     assert "at most 200 characters" in line and len(line) < 1_000
+
+
+def test_a_duplicate_key_is_named(tmp_path):
+    site = tmp_path / "dup.toml"
+    site.write_text('[site]\nname = "a"\nname = "b"\n')
+    line = _one_line(sitegen.run_cli(["screen", site]), 2)
+    assert "'name' is given twice" in line and "line 3" in line
+
+
+def test_a_closed_stdout_is_exit_74_not_a_lost_result(tmp_path):
+    r = subprocess.run([sys.executable, "-m", "siteexposure", "limits"],
+                       preexec_fn=lambda: os.close(1), stderr=subprocess.PIPE, text=True,
+                       timeout=120)
+    assert r.returncode == 74 and "standard output is closed" in r.stderr
+
+
+def test_names_survive_a_stdout_that_cannot_encode_them(tmp_path):
+    import json
+
+    doc = sitegen.base_site()
+    doc["area"][0]["name"] = "Deck \u4e2d \U0001f4e1"
+    site = sitegen.write_site(tmp_path, doc)
+    env = dict(os.environ, PYTHONIOENCODING="cp1252")
+    for args, check in ((["--json"], "json"), ([], "text")):
+        r = subprocess.run([sys.executable, "-m", "siteexposure", "screen", str(site),
+                            "--no-progress", *args], capture_output=True, env=env, timeout=600)
+        assert r.returncode in (0, 1), r.stderr[-2000:]
+        out = r.stdout.decode("cp1252")
+        if check == "json":
+            assert json.loads(out)["areas"][0]["name"] == "Deck \u4e2d \U0001f4e1"
+        else:
+            assert "Deck \\u4e2d \\U0001f4e1" in out
