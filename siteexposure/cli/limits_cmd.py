@@ -171,7 +171,8 @@ def limits(
     chosen = list(dict.fromkeys(set_ids or []))
     for f in frequencies or []:
         if not (math.isfinite(f) and f > 0.0):
-            raise InputError(f"option '--freq': {f!r}; expected a positive frequency in MHz")
+            raise InputError(f"option '--freq': {f!r} is not a positive finite number; expected a "
+                             "frequency in MHz")
     for set_id in chosen:
         load_limit_set(set_id)  # unknown id -> LimitsError listing the valid ids
     console = Console(soft_wrap=False)
