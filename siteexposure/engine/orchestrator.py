@@ -120,6 +120,15 @@ def _gib(n: float) -> str:
     return f"{n / 1024**3:.2f} GB" if n >= 0.1 * 1024**3 else f"{n / 1024**2:.0f} MB"
 
 
+#: antennas x evaluation points of a run: refused above MAX_EVALUATIONS, a warning with the
+#: time to expect above WARN_EVALUATIONS; EVALUATIONS_PER_S is what the far-field kernel
+#: does on two cores (an order of magnitude, from memory of benchmark runs; near-field
+#: models are slower) [1], [1/s]
+MAX_EVALUATIONS = 2e10
+WARN_EVALUATIONS = 1e9
+EVALUATIONS_PER_S = 1e8
+
+
 def check_grid_size(site: Site) -> None:
     """Refuse, up front, a site whose grids or models would not fit in memory or time.
 
@@ -188,6 +197,24 @@ def check_grid_size(site: Site) -> None:
                 f"limit {MAX_POINTS_PER_AREA:,} per area, to bound the run time); expected a "
                 f"coarser resolution_m (about {coarser():.3g} m would fit) or a smaller area"
             )
+    total = sum(estimate_columns(a, site.resolution_m) * k for a in evaluated) * len(site.antennas)
+    if total > MAX_EVALUATIONS:
+        raise InputError(
+            f"{file}: {len(site.antennas):,} antennas over about "
+            f"{total // max(len(site.antennas), 1):,} evaluation points make about {total:.2g} "
+            f"field evaluations (at most {MAX_EVALUATIONS:.0e}, which takes about "
+            f"{MAX_EVALUATIONS / EVALUATIONS_PER_S / 3600:.1f} h on two cores with the fastest "
+            "model; this would take hours more); expected a coarser resolution_m, smaller "
+            "areas, or the site split into parts"
+        )
+    if total > WARN_EVALUATIONS:
+        import warnings
+
+        from siteexposure.errors import SiteExposureWarning
+
+        warnings.warn(f"{file}: about {total:.2g} field evaluations ({len(site.antennas)} "
+                      f"antennas x points); expect at least {total / EVALUATIONS_PER_S / 60:.0f} "
+                      "min on two cores", SiteExposureWarning, stacklevel=2)
     need = memory(site.resolution_m)
     if need > budget:
         raise InputError(

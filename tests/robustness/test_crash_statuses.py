@@ -253,3 +253,13 @@ def test_names_survive_a_stdout_that_cannot_encode_them(tmp_path):
             assert json.loads(out)["areas"][0]["name"] == "Deck \u4e2d \U0001f4e1"
         else:
             assert "Deck \\u4e2d \\U0001f4e1" in out
+
+
+def test_antennas_times_points_is_bounded_up_front(tmp_path, monkeypatch):
+    """5 000 antennas over 19 M points (issue 13) is ~1e11 evaluations, hours: refused before
+    anything is computed; here the bound is lowered to the sample site's size."""
+    from siteexposure.engine import orchestrator
+
+    monkeypatch.setattr(orchestrator, "MAX_EVALUATIONS", 10.0)
+    line = _one_line(sitegen.run_cli(["screen", _site(tmp_path), "--no-progress"]), 2)
+    assert "field evaluations" in line and "resolution_m" in line
