@@ -464,6 +464,8 @@ def _check_sphere(src: str, rows: SphereRows, cuts: dict, arrays: dict, peak: fl
 def _read_text(path: Path) -> str:
     from siteexposure.readers.files import MAX_PATTERN_BYTES, read_input_bytes
 
+    if not path.exists() and not path.is_symlink():
+        raise PatternError(f"pattern file '{path}': not found; expected a pattern CSV v1 file")
     data = read_input_bytes(path, "pattern file (pattern CSV v1)", MAX_PATTERN_BYTES,
                             PatternError)
     if b"\x00" in data:
@@ -476,7 +478,7 @@ def _read_text(path: Path) -> str:
         line = data[: exc.start].count(b"\n") + 1
         raise _err(str(path), line, f"byte {exc.start} is not UTF-8 text; expected a UTF-8 text "
                                     "file in pattern CSV v1 layout") from exc
-    if not looks_like_pattern_csv(text):
+    if text.strip() and not looks_like_pattern_csv(text):
         # never echo a line of a file that is not a pattern file (it may be anything)
         raise PatternError(f"pattern file '{path}': does not look like a pattern file (no "
                            f"'# pattern CSV v1' line and no table header "

@@ -588,7 +588,8 @@ FILE_CASES = [
     ("toml-syntax", _VALID.replace('name = "Robustness deck"', 'name = "Robustness deck'),
      "{site}: line 2, column 24: invalid TOML: Illegal character '\\n'"),
     ("table-declared-twice", _VALID + "[site]\nname = \"again\"\n",
-     "{site}: line 61, column 6: invalid TOML: Cannot declare ('site',) twice"),
+     "{site}: line 61, column 6: invalid TOML: Cannot declare ('site',) twice: 'site' is given twice; "
+     "expected each key once per table"),
     ("truncated", _VALID[: _VALID.index("[[antenna]]") + 6],
      "{site}: line 25 (end of file): invalid TOML: Expected ']]' at the end of an array "
      "declaration; is the file complete?"),

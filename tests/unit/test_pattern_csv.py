@@ -210,5 +210,5 @@ def test_binary_and_undecodable_files(tmp_path):
         read_pattern_csv(g)
     with pytest.raises(PatternError, match=r"missing.csv': not found"):
         read_pattern_csv(tmp_path / "missing.csv")
-    with pytest.raises(PatternError, match=r"cannot be read"):
+    with pytest.raises(PatternError, match=r"is a folder; expected a pattern file"):
         read_pattern_csv(tmp_path)
