@@ -71,7 +71,9 @@ MAX_MESSAGE = 600
 
 def one_line(text: object) -> str:
     """``text`` on one line, control characters shown as escapes, at most MAX_MESSAGE long."""
-    out = "".join(c if c.isprintable() else repr(c)[1:-1] for c in " ".join(str(text).split()))
+    from siteexposure.writers.summary import term
+
+    out = term(" ".join(str(text).split()))
     return out if len(out) <= MAX_MESSAGE else out[: MAX_MESSAGE - 30] + f" ... ({len(out)} chars)"
 
 

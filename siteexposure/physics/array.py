@@ -627,7 +627,7 @@ class ArraySynthesis:
 
         fused = fused_power_density(self, xa, ya, za) if self.power_w > 0 else None
         if fused is not None:
-            s_e, ok, s_h = self._shadow_floor(xa, ya, za, fused[0], fused[2])
+            s_e, s_h = self._shadow_floor(xa, ya, za, fused[0], fused[2])
             return s_e.reshape(shape), s_h.reshape(shape), fused[1].reshape(shape)
         r, phi, theta = antenna_angles(xa, ya, za)
         rho = np.hypot(xa, ya)
@@ -645,7 +645,7 @@ class ArraySynthesis:
             s[sel] = d_e * e
             s_h[sel] = d_h * e
         f = self.reflection_factor
-        s, _, s_h = self._shadow_floor(xa, ya, za, s * f, s_h * f)
+        s, s_h = self._shadow_floor(xa, ya, za, s * f, s_h * f)
         return s.reshape(shape), s_h.reshape(shape), ok.reshape(shape)
 
     def _shadow_floor(self, xa, ya, za, s_e, s_h):
@@ -654,22 +654,24 @@ class ArraySynthesis:
         ``d`` the distance from the column: within a wavelength or so of a reflector its shadow
         has not formed (method-of-moments panels of tests/data/nec: behind the reflector at
         0.2-1 lambda the element factor alone left the model down to -4.2 dB; with this floor
-        -3.8 dB). Only points within :data:`SHADOW_FLOOR_WL` wavelengths are recomputed.
-        Returns ``(s_e, None, s_h)``. [W/m^2]"""
+        -3.8 dB). The floor is this project's own rule, set on those references (the square of
+        the reactive-to-radiating ratio ``1/(k d)`` of a small source; not a published method).
+        Only points within :data:`SHADOW_FLOOR_WL` wavelengths are recomputed. Returns
+        ``(s_e, s_h)``. [W/m^2]"""
         rho = np.hypot(xa, ya)
         dz = za - np.clip(za, self.z_m[0], self.z_m[-1])
         d = np.hypot(rho, dz)
         lam = self.wavelength_m
         near = (d < SHADOW_FLOOR_WL * lam) & np.isfinite(s_e)
         if self.power_w <= 0 or not near.any():
-            return s_e, None, s_h
+            return s_e, s_h
         d_e, d_h = self._density(rho[near], za[near])
         fl = np.minimum(1.0, (lam / (2.0 * np.pi * np.maximum(d[near], 1e-12))) ** 2)
         fl = fl * self.reflection_factor
         s_e, s_h = np.array(s_e, dtype=float), np.array(s_h, dtype=float)
         s_e[near] = np.fmax(s_e[near], d_e * fl)
         s_h[near] = np.fmax(s_h[near], d_h * fl)
-        return s_e, None, s_h
+        return s_e, s_h
 
     def _density(self, rho, za) -> tuple[np.ndarray, np.ndarray]:
         """E- and H-field densities of the column without the element factor at cylindrical

@@ -37,8 +37,8 @@ Model
   ``k cosh(beta)`` at four samples a radian of every phase in it (converged to 0.01 dB).
 * **Within a wavelength of the aperture plane** the field one wavelength in front, never
   less than the illumination itself (the field on the plane, Kirchhoff's boundary value):
-  the evanescent waves there would cost ten times as much (measured against the reference
-  on the 1874 points there, in the accuracy table).
+  the evanescent waves there would cost ten times as much (1874 of the reference's judged
+  points lie there; they are part of the accuracy table's dish rows).
 * **Regions**: in front of the aperture plane out to the far-field
   range ``2 D^2/lambda``, within two diameters of the axis and further off it wherever the
   Bessel form holds or the angular spectrum is cheap, the integral (which holds the
